@@ -1,0 +1,169 @@
+"""Command line: ``molid identify``, ``molid library``, ``molid grade``, ``molid report``.
+
+A thin layer over the library. Exit status: 0 when every row was analysed, 1 when
+some rows had errors (reported; every other row still analysed), 2 for a usage
+error or a file that cannot be read, 3 for an internal error (a bug: please
+report it with the input that caused it).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from molid import __version__
+
+__all__ = ["main", "build_parser"]
+
+EXIT_OK, EXIT_ROW_ERRORS, EXIT_USAGE, EXIT_INTERNAL = 0, 1, 2, 3
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # argparse prints usage and exits 2; keep that, no traceback
+        self.print_usage(sys.stderr)
+        self.exit(EXIT_USAGE, f"molid: error: {message}\n")
+
+
+def _add_common(parser):
+    parser.add_argument("file", help="run file: .csv (comma or semicolon) or .xlsx; '-' reads stdin")
+    parser.add_argument("--profile", metavar="TOML",
+                        help="instrument profile giving default uncertainties (see README)")
+    parser.add_argument("--library", metavar="CSV",
+                        help="candidate library file, merged with the built-in one")
+    parser.add_argument("--replace-library", action="store_true",
+                        help="use only the --library file, not the built-in library")
+    parser.add_argument("--candidate", action="append", default=[], metavar="FORMULA[=NAME]",
+                        help="add a candidate (repeatable), e.g. --candidate 'C3H6O=acetone'")
+    parser.add_argument("--top", type=_positive_int, default=5, metavar="N",
+                        help="candidates shown per run or sample (default 5)")
+    parser.add_argument("--force", action="store_true", help="replace an existing output file")
+
+
+def _positive_int(text):
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError("must be 1 or more")
+    return value
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The argument parser (exposed for documentation and tests)."""
+    parser = _Parser(
+        prog="molid",
+        description="Molar mass of a weighed gas with a GUM uncertainty budget, and which "
+        "substances it can be.",
+    )
+    parser.add_argument("--version", action="version", version=f"molid {__version__}")
+    commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    identify = commands.add_parser(
+        "identify", help="molar mass, uncertainty and ranked candidates for each run and sample",
+        description="Analyse a run file: molar mass with expanded uncertainty (k = 2), its "
+        "budget, replicates combined per sample, and the candidates ranked.",
+    )
+    _add_common(identify)
+    identify.add_argument("--json", action="store_true", help="print the JSON document to stdout")
+    identify.add_argument("-o", "--output", metavar="CSV", help="write one row per run to CSV")
+
+    library = commands.add_parser(
+        "library", help="list or search the candidate library",
+        description="List the candidates molid considers; filter by text or molar-mass window.",
+    )
+    library.add_argument("query", nargs="?", help="part of a name, alias, formula or CAS number")
+    library.add_argument("--mass", nargs=2, type=float, metavar=("LOW", "HIGH"),
+                         help="molar-mass window in g/mol")
+    library.add_argument("--library", metavar="CSV", help="candidate library file to merge")
+    library.add_argument("--replace-library", action="store_true",
+                         help="use only the --library file")
+    library.add_argument("--candidate", action="append", default=[], metavar="FORMULA[=NAME]")
+    library.add_argument("--json", action="store_true", help="print JSON")
+    return parser
+
+
+def _load_library(args):
+    from molid.library import load_library
+
+    return load_library(args.library, mode="replace" if args.replace_library else "merge",
+                        extra_candidates=tuple(args.candidate))
+
+
+def _identify(args) -> int:
+    from molid.export import to_csv, to_json, to_table
+    from molid.identify import identify
+    from molid.safeio import check_output_path, write_atomic
+
+    output = check_output_path(args.output, [args.file, args.profile, args.library],
+                               args.force) if args.output else None
+    library = _load_library(args)
+    result = identify(args.file, profile=args.profile, library=library)
+    if args.json:
+        sys.stdout.write(to_json(result, None))
+    else:
+        sys.stdout.write(to_table(result, args.top))
+    if output is not None:
+        write_atomic(output, to_csv(result))
+        print(f"wrote {output}", file=sys.stderr)
+    return EXIT_ROW_ERRORS if not result.ok.all() else EXIT_OK
+
+
+def _library(args) -> int:
+    import json
+
+    from molid.library import search_library
+
+    library = _load_library(args)
+    found = search_library(library, args.query, tuple(args.mass) if args.mass else None)
+    if args.json:
+        records = [
+            {"name": row.name, "formula": row.formula, "cas": row.cas,
+             "molar_mass": round(row.molar_mass * 1e3, 4), "polar_class": row.polar_class,
+             "ghs_hazards": list(row.ghs_hazards)}
+            for row in found.itertuples()
+        ]
+        sys.stdout.write(json.dumps(records, indent=2, ensure_ascii=False) + "\n")
+        return EXIT_OK
+    print(f"{'name':<26} {'formula':<12} {'M g/mol':>9} {'CAS':<12} {'Tc K':>7} {'Pc MPa':>7}"
+          f" {'omega':>6}  hazards")
+    for row in found.itertuples():
+        tc = f"{row.critical_temperature:7.1f}" if row.has_critical_data else "      -"
+        pc = f"{row.critical_pressure / 1e6:7.3f}" if row.has_critical_data else "      -"
+        omega = f"{row.acentric_factor:6.3f}" if row.has_critical_data else "     -"
+        print(f"{row.name[:26]:<26} {(row.formula or '-')[:12]:<12} {row.molar_mass * 1e3:9.3f} "
+              f"{(row.cas or '-'):<12} {tc} {pc} {omega}  {'; '.join(row.ghs_hazards)}")
+    print(f"{len(found)} of {len(library)} candidates", file=sys.stderr)
+    return EXIT_OK
+
+
+_HANDLERS = {"identify": _identify, "library": _library}
+
+
+def main(argv=None) -> int:
+    """Run the command line; returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not args.command:
+        parser.print_help()
+        return EXIT_USAGE
+    from molid.errors import USER_ERRORS
+
+    try:
+        return _HANDLERS[args.command](args)
+    except USER_ERRORS as problem:
+        print(f"molid: {problem}", file=sys.stderr)
+        return EXIT_USAGE
+    except KeyboardInterrupt:
+        print("molid: interrupted", file=sys.stderr)
+        return EXIT_USAGE
+    except BrokenPipeError:
+        return EXIT_OK
+    except Exception as problem:  # never a traceback for a user; say it is ours
+        print(f"molid: internal error ({type(problem).__name__}: {problem}). This is a bug in "
+              "molid; please report it with the input file.", file=sys.stderr)
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,269 @@
+"""The identify pipeline: validated runs → molar mass with uncertainty → samples → candidates.
+
+Each stage is a plain function over arrays; :func:`identify` chains them and is
+what the ``molid identify`` command and a notebook call.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from molid.instruments import InstrumentProfile, load_profile
+from molid.methods import MODEL_INPUTS, measurement_model, method_codes
+from molid.reading import RunTable, read_runs
+from molid.replicates import combine_replicates, shared_inputs
+from molid.uncertainty import COVERAGE_FACTOR, budget_percent, propagate
+
+__all__ = ["MOLAR_MASS_FLOOR", "MOLAR_MASS_CEILING", "Identification", "evaluate_runs", "identify"]
+
+#: Below hydrogen's molar mass (2.016 g/mol) no gas exists; allow for noise.
+MOLAR_MASS_FLOOR = 1.9e-3
+#: Above this no common gas or vapour lies (UF6 is 352 g/mol).
+MOLAR_MASS_CEILING = 500e-3
+
+#: The air-density formula's relative standard uncertainty (Picard et al. 2008).
+from molid.air import CIPM_2007_RELATIVE_UNCERTAINTY  # noqa: E402
+
+
+@dataclass
+class Identification:
+    """Everything :func:`identify` found, as arrays over runs and a table of samples.
+
+    Attributes
+    ----------
+    table : RunTable
+        The validated input.
+    molar_mass, u : numpy.ndarray
+        Ideal-gas molar mass of each run and its standard uncertainty [kg/mol]; NaN
+        where the row has an error.
+    errors, warnings : list of list of str
+        Per-run problems (input and model).
+    budget : dict of numpy.ndarray
+        Each input's share of the variance [%].
+    propagation : Propagation
+        Sensitivities and contributions, for reports.
+    samples : pandas.DataFrame
+        One row per sample with replicate statistics (``value``/``u`` in kg/mol).
+    sample_runs : dict
+        Sample id → list of run ids combined.
+    sample_warnings : dict
+        Sample id → list of warnings.
+    ranking : object or None
+        Per-candidate evaluation (see :mod:`molid.ranking`).
+    notes : list of str
+        File-level remarks.
+    """
+
+    table: RunTable
+    molar_mass: np.ndarray
+    u: np.ndarray
+    errors: list
+    warnings: list
+    budget: dict
+    propagation: object
+    samples: pd.DataFrame
+    sample_runs: dict
+    sample_warnings: dict
+    ranking: object = None
+    sample_ranking: object = None
+    notes: list = field(default_factory=list)
+
+    @property
+    def ok(self) -> np.ndarray:
+        """True for runs with a result."""
+        return np.array([not problems for problems in self.errors], dtype=bool)
+
+    @property
+    def U(self) -> np.ndarray:  # noqa: N802 - the GUM's symbol
+        """Expanded uncertainty, k = 2 [kg/mol]."""
+        return COVERAGE_FACTOR * self.u
+
+
+def model_inputs(table: RunTable, profile: InstrumentProfile):
+    """Values, uncertainties and flags of the measurement model for every run."""
+    n = len(table)
+    values = {name: table.values[name] for name in MODEL_INPUTS[:9]}
+    uncertainties = {name: table.uncertainties[name] for name in MODEL_INPUTS[:9]}
+    values["air_density_formula"] = np.zeros(n)
+    uncertainties["air_density_formula"] = np.full(n, CIPM_2007_RELATIVE_UNCERTAINTY)
+    values["water_vapour"] = np.zeros(n)
+    uncertainties["water_vapour"] = np.where(table.wet, profile.wet_relative, 0.0)
+    static = {
+        "method_code": method_codes(table.text["method"].to_numpy(dtype=object)),
+        "wet": table.wet,
+        "air_temperature_given": table.given["air_temperature"],
+        "air_pressure_given": table.given["air_pressure"],
+    }
+    return values, uncertainties, static
+
+
+def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
+    """Molar mass and its uncertainty budget for every run of a validated table.
+
+    Parameters
+    ----------
+    table : RunTable
+        From :func:`molid.reading.read_runs`.
+    profile : InstrumentProfile, optional
+        Supplies the wet-gas term; the default profile when None.
+
+    Returns
+    -------
+    propagation : Propagation
+        Value [kg/mol], sensitivities and contributions per input.
+    errors, warnings : list of list of str
+        The table's problems plus those the model finds (a gas mass or dry-gas
+        pressure that cannot be, a molar mass no gas has).
+    """
+    profile = profile or load_profile()
+    values, uncertainties, static = model_inputs(table, profile)
+    propagation = propagate(measurement_model, values, uncertainties, static, output="molar_mass")
+    errors = [list(row) for row in table.errors]
+    warnings = [list(row) for row in table.warnings]
+    ok = np.array([not row for row in errors], dtype=bool)
+    extras = propagation.extras
+    molar_mass = propagation.value
+    rows = table.row_numbers
+    for index in np.flatnonzero(ok & (extras["dry_pressure"] <= 0)):
+        errors[index].append(
+            f"row {rows[index]}: the water vapour pressure at this temperature "
+            f"({(table.values['pressure'][index] - extras['dry_pressure'][index]) / 1000:.3g} kPa) "
+            "is not below the total pressure; a wet gas cannot be at these conditions"
+        )
+    ok = np.array([not row for row in errors], dtype=bool)
+    for index in np.flatnonzero(ok & (extras["gas_mass"] <= 0)):
+        errors[index].append(
+            f"row {rows[index]}: with the displaced air added back, the gas mass comes out "
+            f"{extras['gas_mass'][index] * 1e3:.4g} g, which cannot be; check the method "
+            "(evacuated-bulb, air-tare-bulb or syringe), the readings and the volume"
+        )
+    ok = np.array([not row for row in errors], dtype=bool)
+    light = ok & (molar_mass < MOLAR_MASS_FLOOR)
+    heavy = ok & (molar_mass > MOLAR_MASS_CEILING)
+    for index in np.flatnonzero(light | heavy):
+        density = extras["gas_mass"][index] / table.values["volume"][index]
+        side = "lighter than hydrogen" if light[index] else "heavier than any common gas or vapour"
+        warnings[index].append(
+            f"the gas density {density:.4g} kg/m³ implies {molar_mass[index] * 1e3:.4g} g/mol, "
+            f"{side}; check the mass and volume units and the method"
+        )
+    return propagation, errors, warnings
+
+
+def _sample_results(table: RunTable, propagation, errors):
+    ok = np.array([not row for row in errors], dtype=bool)
+    sample = table.text["sample"].to_numpy(dtype=object)
+    has_sample = np.array([item is not None for item in sample], dtype=bool)
+    runs = table.text["run"].to_numpy(dtype=object)
+    flags = shared_inputs(sample, propagation_values(propagation, table), propagation.uncertainties,
+                          ok & has_sample)
+    contributions = propagation.contributions
+    shared = {name: np.where(flags[name], contributions[name], 0.0) for name in flags}
+    u = propagation.standard_uncertainty
+    samples = combine_replicates(sample, propagation.value, u, shared, ok & has_sample)
+    sample_runs: dict = {}
+    sample_warnings: dict = {}
+    for index in np.flatnonzero(has_sample):
+        sample_runs.setdefault(sample[index], [])
+        sample_warnings.setdefault(sample[index], [])
+        if ok[index]:
+            sample_runs[sample[index]].append(runs[index])
+        else:
+            sample_warnings[sample[index]].append(
+                f"run {runs[index]} (row {table.row_numbers[index]}) left out: it has an error"
+            )
+    for row in samples.itertuples(index=False):
+        notes = sample_warnings[row.sample]
+        if row.n > 1 and row.widened:
+            notes.append(
+                f"the {row.n} runs scatter more than their stated uncertainties explain "
+                f"(Birge ratio {row.birge_ratio:.2f}, chi-squared {row.chi_square:.3g} on "
+                f"{row.n - 1} degrees of freedom, p = {row.p_value:.2g}); the run-to-run part "
+                f"of the uncertainty was widened by the Birge ratio"
+            )
+            if row.p_value < 0.01:
+                notes.append(
+                    "the runs disagree strongly: look for a run with a mistake before trusting "
+                    "the combined value"
+                )
+        members = sample == row.sample
+        shared_names = [
+            name for name in flags
+            if flags[name][members].all() and (propagation.uncertainties[name][members] > 0).any()
+        ]
+        if row.n > 1 and shared_names:
+            notes.append(
+                "shared by all runs and not reduced by averaging: " + ", ".join(shared_names)
+            )
+    empty = [name for name, members in sample_runs.items() if not members]
+    for name in empty:
+        sample_warnings[name].append("no run of this sample could be analysed")
+    return samples, sample_runs, sample_warnings
+
+
+def propagation_values(propagation, table: RunTable) -> dict:
+    """The model-input values behind a propagation (for shared-input detection)."""
+    values = {name: table.values[name] for name in MODEL_INPUTS[:9]}
+    n = len(table)
+    values["air_density_formula"] = np.zeros(n)
+    values["water_vapour"] = np.zeros(n)
+    return values
+
+
+def identify(
+    source,
+    *,
+    profile: InstrumentProfile | str | Path | None = None,
+    library=None,
+    rank: bool = True,
+) -> Identification:
+    """Analyse a run file or DataFrame: molar mass, uncertainty, samples and candidates.
+
+    Parameters
+    ----------
+    source : str, pathlib.Path, file-like, pandas.DataFrame or RunTable
+        The runs (see :func:`molid.reading.read_runs`).
+    profile : InstrumentProfile or path, optional
+        Default uncertainties.
+    library : pandas.DataFrame, optional
+        Candidate library (see :func:`molid.library.load_library`); the default
+        library when None.
+    rank : bool
+        Evaluate and rank the candidates.
+
+    Returns
+    -------
+    Identification
+        Per-run and per-sample results.
+    """
+    if profile is None or isinstance(profile, (str, Path)):
+        profile = load_profile(profile)
+    table = source if isinstance(source, RunTable) else read_runs(source, profile=profile)
+    propagation, errors, warnings = evaluate_runs(table, profile)
+    ok = np.array([not row for row in errors], dtype=bool)
+    molar_mass = np.where(ok, propagation.value, np.nan)
+    u = np.where(ok, propagation.standard_uncertainty, np.nan)
+    budget = budget_percent(propagation.contributions)
+    samples, sample_runs, sample_warnings = _sample_results(table, propagation, errors)
+    result = Identification(
+        table=table,
+        molar_mass=molar_mass,
+        u=u,
+        errors=errors,
+        warnings=warnings,
+        budget=budget,
+        propagation=propagation,
+        samples=samples,
+        sample_runs=sample_runs,
+        sample_warnings=sample_warnings,
+        notes=list(table.notes),
+    )
+    if rank:
+        from molid.ranking import rank_identification
+
+        rank_identification(result, library=library)
+    return result

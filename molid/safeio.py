@@ -1,0 +1,108 @@
+"""Writing output files safely: atomically, never over an input, never silently over an output.
+
+Also neutralises cells a spreadsheet would run as formulas.
+
+References
+----------
+OWASP, "CSV Injection" (formula injection in exported spreadsheets): cells
+beginning with ``=``, ``+``, ``-``, ``@``, tab or carriage return are prefixed
+with a single quote so that a spreadsheet shows them as text.
+"""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+__all__ = ["OutputRefused", "check_output_path", "write_atomic", "neutralise_cell"]
+
+_FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+class OutputRefused(ValueError):
+    """An output path that would overwrite an input or an existing file."""
+
+
+def check_output_path(output, inputs=(), force: bool = False) -> Path:
+    """Refuse an output path that is one of the inputs, or exists without ``force``.
+
+    Parameters
+    ----------
+    output : str or pathlib.Path
+        Where to write.
+    inputs : iterable of str or pathlib.Path
+        Files read by the same command ("-" for stdin is ignored).
+    force : bool
+        Allow replacing an existing output file.
+
+    Returns
+    -------
+    pathlib.Path
+        The output path.
+
+    Raises
+    ------
+    OutputRefused
+        With a message saying why and what to do.
+    """
+    path = Path(output)
+    for item in inputs:
+        if item is None or str(item) == "-":
+            continue
+        try:
+            same = path.exists() and Path(item).exists() and path.samefile(item)
+        except OSError:
+            same = False
+        if same or path.resolve() == Path(item).resolve():
+            raise OutputRefused(f"{path}: is an input of this command; write the output elsewhere")
+    if path.is_dir():
+        raise OutputRefused(f"{path}: is a folder; give a file name")
+    if path.exists() and not force:
+        raise OutputRefused(f"{path}: already exists; use --force to replace it")
+    if not path.parent.exists():
+        raise OutputRefused(f"{path}: the folder {path.parent} does not exist")
+    return path
+
+
+def write_atomic(path, data: bytes | str) -> None:
+    """Write a file through a temporary file in the same folder and a rename.
+
+    A reader never sees a half-written file, and a failure leaves any previous
+    file in place.
+    """
+    path = Path(path)
+    if isinstance(data, str):
+        data = data.encode("utf-8")
+    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    try:
+        with os.fdopen(handle, "wb") as stream:
+            stream.write(data)
+            stream.flush()
+            os.fsync(stream.fileno())
+        os.replace(temporary, path)
+    except BaseException:
+        try:
+            os.unlink(temporary)
+        except FileNotFoundError:
+            pass
+        raise
+
+
+def neutralise_cell(value):
+    """Make a text cell safe for a spreadsheet; numbers (even negative) stay numbers.
+
+    Examples
+    --------
+    >>> neutralise_cell('=HYPERLINK("x")')
+    '\\'=HYPERLINK("x")'
+    >>> neutralise_cell("-0.25"), neutralise_cell(-0.25)
+    ('-0.25', -0.25)
+    """
+    if not isinstance(value, str) or not value.startswith(_FORMULA_STARTS):
+        return value
+    try:
+        float(value.replace(",", "."))
+        return value
+    except ValueError:
+        return "'" + value

@@ -1,0 +1,201 @@
+"""Units of the input columns: parsing a header's unit with pint and converting to SI.
+
+Each measured column has a physical kind (mass, volume, temperature, pressure,
+fraction) and a default unit used when the header names none. Conversion to SI
+happens once, here, at the edge of the library; everything downstream works in
+kg, m³, K, Pa and plain fractions.
+
+The pint registry is built lazily on first use so that commands which never read
+a file (``molid --help``) do not pay for it.
+"""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass
+
+import numpy as np
+
+__all__ = [
+    "COLUMN_KINDS",
+    "DEFAULT_UNITS",
+    "SI_UNITS",
+    "ACCEPTED_UNITS",
+    "UnitProblem",
+    "ColumnUnit",
+    "registry",
+    "resolve_unit",
+    "to_si",
+]
+
+#: Physical kind of each measured column.
+COLUMN_KINDS = {
+    "mass_tare": "mass",
+    "mass_filled": "mass",
+    "volume": "volume",
+    "temperature": "temperature",
+    "pressure": "pressure",
+    "humidity": "fraction",
+    "air_temperature": "temperature",
+    "air_pressure": "pressure",
+    "co2": "fraction",
+    "reported_molar_mass": "molar_mass",
+}
+
+#: Unit assumed when a header gives none.
+DEFAULT_UNITS = {
+    "mass": "g",
+    "volume": "mL",
+    "temperature": "degC",
+    "pressure": "kPa",
+    "fraction": "percent",
+    "molar_mass": "g/mol",
+}
+
+#: The SI unit each kind is converted to.
+SI_UNITS = {
+    "mass": "kg",
+    "volume": "m**3",
+    "temperature": "K",
+    "pressure": "Pa",
+    "fraction": "dimensionless",
+    "molar_mass": "kg/mol",
+}
+
+#: Examples of accepted units, quoted in error messages.
+ACCEPTED_UNITS = {
+    "mass": "g, mg, kg",
+    "volume": "mL, L, cm^3, m^3",
+    "temperature": "degC, K, degF",
+    "pressure": "kPa, Pa, hPa, mbar, bar, atm, mmHg, torr, inHg, psi",
+    "fraction": "% (percent) or 1 (a plain fraction)",
+    "molar_mass": "g/mol, kg/mol",
+}
+
+_DIMENSIONS = {
+    "mass": "[mass]",
+    "volume": "[length] ** 3",
+    "temperature": "[temperature]",
+    "pressure": "[mass] / [length] / [time] ** 2",
+    "fraction": "",
+    "molar_mass": "[mass] / [substance]",
+}
+
+
+class UnitProblem(ValueError):
+    """A unit that cannot be parsed or does not fit the column's kind."""
+
+
+@functools.lru_cache(maxsize=1)
+def registry():
+    """Return the shared pint unit registry (built on first call)."""
+    import pint
+
+    return pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+
+
+@dataclass(frozen=True)
+class ColumnUnit:
+    """A column's unit as a linear map to SI: ``si = scale * value + offset``.
+
+    ``delta_scale`` converts a difference (an uncertainty) in this unit to SI; it
+    equals ``scale`` and exists only to make that use explicit for offset units
+    such as degC, where a standard uncertainty of 0.1 degC is 0.1 K.
+    """
+
+    kind: str
+    text: str
+    scale: float
+    offset: float
+
+    @property
+    def delta_scale(self) -> float:
+        """Factor converting a difference in this unit to SI."""
+        return self.scale
+
+
+@functools.lru_cache(maxsize=256)
+def resolve_unit(kind: str, text: str | None) -> ColumnUnit:
+    """Parse a unit for a column of the given kind.
+
+    Parameters
+    ----------
+    kind : str
+        One of the keys of :data:`DEFAULT_UNITS`.
+    text : str or None
+        The unit as written in the header, or None for the kind's default.
+
+    Returns
+    -------
+    ColumnUnit
+        The linear map from values in that unit to SI.
+
+    Raises
+    ------
+    UnitProblem
+        When pint does not know the unit or it is not of the column's kind.
+    """
+    text = (text or "").strip() or DEFAULT_UNITS[kind]
+    normalized = text.replace("°", "deg").replace("³", "**3").replace("^", "**")
+    if normalized.lower() in {"c", "degc", "celsius", "deg c"}:
+        normalized = "degC"
+    elif normalized.lower() in {"f", "degf", "fahrenheit", "deg f"}:
+        normalized = "degF"
+    elif normalized.lower() in {"%", "pct", "%rh", "percent rh"}:
+        normalized = "percent"
+    elif normalized.lower() in {"1", "fraction", "-"}:
+        normalized = "dimensionless"
+    ureg = registry()
+    try:
+        unit = ureg.Unit(normalized)
+    except Exception as error:  # pint raises several types for unknown names
+        raise UnitProblem(
+            f"unknown unit '{text}'; accepted for {kind}: {ACCEPTED_UNITS[kind]}"
+        ) from error
+    expected = ureg.get_dimensionality(_DIMENSIONS[kind]) if _DIMENSIONS[kind] else {}
+    if unit.dimensionality != expected:
+        raise UnitProblem(
+            f"unit '{text}' is not a {kind.replace('_', ' ')} unit; "
+            f"accepted: {ACCEPTED_UNITS[kind]}"
+        )
+    si = SI_UNITS[kind]
+    zero = float(ureg.Quantity(0.0, unit).to(si).magnitude)
+    if zero != 0.0:
+        # An offset unit (degC, degF): its scale is that of its difference unit.
+        scale = float(ureg.Quantity(1.0, f"delta_{unit}").to(si).magnitude)
+    else:
+        scale = float(ureg.Quantity(1.0, unit).to(si).magnitude)
+    return ColumnUnit(kind=kind, text=text, scale=scale, offset=zero)
+
+
+def to_si(values, unit: ColumnUnit, *, difference: bool = False) -> np.ndarray:
+    """Convert values (or, with ``difference``, uncertainties) to SI.
+
+    Parameters
+    ----------
+    values : array_like
+        Values in ``unit``.
+    unit : ColumnUnit
+        The column's unit.
+    difference : bool
+        Treat the values as differences (uncertainties): no offset is added.
+
+    Returns
+    -------
+    numpy.ndarray
+        Values in the SI unit of the column's kind.
+
+    Examples
+    --------
+    Conventional definitions (BIPM SI Brochure, 2019: 0 degC = 273.15 K; 1 mmHg =
+    133.322387415 Pa):
+
+    >>> float(to_si(20.0, resolve_unit("temperature", "degC")))
+    293.15
+    >>> round(float(to_si(760.0, resolve_unit("pressure", "mmHg"))), 3)
+    101325.014
+    """
+    values = np.asarray(values, dtype=float)
+    if difference:
+        return values * unit.delta_scale
+    return values * unit.scale + unit.offset
