@@ -68,6 +68,23 @@ def test_compressibility_against_coolprop_humid_air():
     np.testing.assert_allclose(computed, expected, rtol=0, atol=tolerance)
 
 
+def test_compressibility_water_terms_against_coolprop():
+    """Z(RH) - Z(0), the water terms of Z, agrees with CoolProp HAPropsSI to 5e-6."""
+    temperature, pressure, humidity = _coolprop_grid()
+    expected = np.array(
+        [
+            HAPropsSI("Z", "T", t, "P", p, "R", h) - HAPropsSI("Z", "T", t, "P", p, "R", 0.0)
+            for t, p, h in zip(temperature, pressure, humidity, strict=True)
+        ]
+    )
+    fraction = air.water_vapour_mole_fraction(pressure, temperature, humidity)
+    computed = air.compressibility_moist_air(
+        pressure, temperature, fraction
+    ) - air.compressibility_moist_air(pressure, temperature, 0.0)
+    tolerance = REFERENCE["coolprop_compressibility_water_part"]["tolerance_absolute"]
+    np.testing.assert_allclose(computed, expected, rtol=0, atol=tolerance)
+
+
 def test_enhancement_factor_against_coolprop():
     """Enhancement factor equals CoolProp's saturated psi_w * p / p_sat to 2.5e-4."""
     entry = REFERENCE["coolprop_density_grid"]
@@ -135,22 +152,15 @@ def test_molar_mass_dry_air_co2_slope_is_carbon():
     assert slope == pytest.approx(carbon, rel=1e-4)
 
 
-def test_gas_constant_choice():
-    """Density uses SI 2019 R: rho * R_SI / R_CODATA2006 is what the paper's R would give."""
+def test_gas_constant_choice(monkeypatch):
+    """Density uses SI 2019 R; the paper's CODATA 2006 R would lower it by R ratio (1.1e-6)."""
     entry = REFERENCE["gas_constant_cipm_2007"]
-    paper_constant = entry["value"]
-    pressure, temperature, humidity = 101325.0, 293.15, 0.5
-    density = air.moist_air_density(pressure, temperature, humidity)
-    fraction = air.water_vapour_mole_fraction(pressure, temperature, humidity)
-    compressibility = air.compressibility_moist_air(pressure, temperature, fraction)
-    dry_molar_mass = air.molar_mass_dry_air()
-    paper_density = (
-        pressure
-        * dry_molar_mass
-        / (compressibility * paper_constant * temperature)
-        * (1 - fraction * (1 - 18.01528e-3 / dry_molar_mass))
-    )
-    assert density / paper_density == pytest.approx(paper_constant / GAS_CONSTANT, rel=1e-14)
+    conditions = (101325.0, 293.15, 0.5)
+    density = air.moist_air_density(*conditions)
+    monkeypatch.setattr(air, "GAS_CONSTANT", entry["value"])
+    paper_density = air.moist_air_density(*conditions)
+    assert density / paper_density == pytest.approx(entry["value"] / GAS_CONSTANT, rel=1e-14)
+    assert density != paper_density
     # The change of R is far below the formula's own uncertainty.
     assert abs(density / paper_density - 1) < air.CIPM_2007_RELATIVE_UNCERTAINTY / 10
 
