@@ -15,6 +15,9 @@ float. A complex input therefore propagates, and
 :math:`\partial\rho/\partial x = \operatorname{Im}\rho(x + ih)/h` gives the
 derivative to rounding; the uncertainty budget relies on this.
 
+The formulas are those of the paper's Appendix A1; its equation numbers were
+recalled rather than re-read, so the docstrings cite the appendix.
+
 Choice of R: the paper evaluates its equation with the CODATA 2006 value
 R = 8.314 472 J/(mol K). Here the SI 2019 exact value
 `molid.constants.GAS_CONSTANT` = 8.314 462 618... J/(mol K) is used instead,
@@ -339,7 +342,8 @@ def moist_air_density(
 
     Notes
     -----
-    Equation (1) of [1]_, repeated in its Appendix A1:
+    Eq. (1) of [1]_ (the density equation, restated in its Appendix A1;
+    numbering recalled, not re-read):
 
     .. math:: \rho_\mathrm{a} = \frac{p M_\mathrm{a}}{Z R T}
               \left[1 - x_\mathrm{v}\left(1 - \frac{M_\mathrm{v}}{M_\mathrm{a}}
