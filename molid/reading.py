@@ -600,8 +600,7 @@ def _check_ranges(values, units, by_name, text, problems: _Problems) -> None:
         problems.error(
             (humidity < 0) | (humidity > 1),
             lambda i: f"column '{by_name['humidity'].original}': relative humidity "
-            f"{_written(humidity[i], units['humidity']):g} {units['humidity'].text} is outside "
-            "0-100 %",
+            f"{humidity[i] * 100:g} % is outside 0-100 %",
         )
     if "co2" in by_name:
         co2 = values["co2"]
