@@ -496,7 +496,7 @@ def parse_runs(
             shown_u = f"{width * 100:.1f} %" if name == "humidity" else f"{width:.2g}"
             notes.append(
                 f"{label} not given for {how_many}: assumed {shown} with standard "
-                f"uncertainty {shown_u} ({profile.source})"
+                f"uncertainty {shown_u}"
             )
         values[name] = np.where(blanks[name], assumed_value, values[name])
 
@@ -527,9 +527,11 @@ def parse_runs(
         ):
             defaulted.append(name)
     if defaulted:
+        where = (profile.source if profile.source == "default profile"
+                 else f"profile {profile.source}")
         notes.append(
             "no stated uncertainty for " + ", ".join(defaulted)
-            + f" in some or all rows: used the {profile.source}"
+            + f" in some or all rows: used the values of the {where}"
         )
 
     _check_ranges(values, units, by_name, text, problems)
