@@ -80,6 +80,31 @@ def build_parser() -> argparse.ArgumentParser:
                          help="use only the --library file")
     library.add_argument("--candidate", action="append", default=[], metavar="FORMULA[=NAME]")
     library.add_argument("--json", action="store_true", help="print JSON")
+    grade = commands.add_parser(
+        "grade", help="recompute, grade and diagnose a lab section's runs",
+        description="Grade each student's run against the unknown's true identity: percent "
+        "error, interval check, rubric points, diagnosis of classic mistakes, class summary.",
+    )
+    _add_common(grade)
+    grade.add_argument("--key", metavar="CSV",
+                       help="answer key mapping sample (the unknown's id) to a formula or name")
+    grade.add_argument("--rubric", metavar="TOML", help="rubric file (defaults shipped; see README)")
+    grade.add_argument("--json", action="store_true", help="print the JSON document to stdout")
+    grade.add_argument("-o", "--output", metavar="CSV", help="write the grades CSV")
+    grade.add_argument("--plots", metavar="DIR", help="write class plots (PNG and SVG) to DIR")
+
+    report = commands.add_parser(
+        "report", help="printable report: a page per sample, a sheet per student",
+        description="Write a PDF (or self-contained HTML) report of an identify-style or graded file.",
+    )
+    _add_common(report)
+    report.add_argument("-o", "--output", metavar="FILE", required=True,
+                        help="report file to write (.pdf or .html)")
+    report.add_argument("--format", choices=("pdf", "html"),
+                        help="report format (default: from the file name, else pdf)")
+    report.add_argument("--key", metavar="CSV", help="answer key, for graded reports")
+    report.add_argument("--rubric", metavar="TOML", help="rubric file, for graded reports")
+    report.add_argument("--paper", choices=("a4", "letter"), default="a4", help="paper size")
     return parser
 
 
@@ -137,7 +162,19 @@ def _library(args) -> int:
     return EXIT_OK
 
 
-_HANDLERS = {"identify": _identify, "library": _library}
+def _grade(args) -> int:
+    from molid.grading import run_grade_command
+
+    return run_grade_command(args)
+
+
+def _report(args) -> int:
+    from molid.reports import run_report_command
+
+    return run_report_command(args)
+
+
+_HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report}
 
 
 def main(argv=None) -> int:

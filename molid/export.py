@@ -222,6 +222,20 @@ def _cut(text, width):
     return text if len(text) <= width else text[: width - 1] + "…"
 
 
+def _label_text(label) -> str:
+    """One line on whether the ``expected`` label agrees with the result."""
+    if label["verdict"] == "not-in-library":
+        return f"'{label['expected']}' is not in the candidate library, so it was not checked"
+    z = f", z = {label['z']:+.2f}" if label.get("z") is not None else ""
+    meaning = {
+        "consistent": "the result agrees with the label",
+        "marginal": "the result is at the edge of agreeing with the label",
+        "excluded": "the result does NOT agree with the label",
+        "condenses": "the labelled substance would be liquid at these conditions",
+    }[label["verdict"]]
+    return f"'{label['expected']}' ({label['name']}): {label['verdict']} (rank {label['rank']}{z}): {meaning}"
+
+
 def to_table(result, top: int = 5) -> str:
     """A plain-text report for a terminal."""
     table = result.table
@@ -252,18 +266,26 @@ def to_table(result, top: int = 5) -> str:
         document = to_document(result, top)
         for entry in document["samples"]:
             block = entry["molar_mass"]
-            value = format_value(block["value"], block["U"]) if block else "no result"
+            value = format_value(block["value"], block["U"]) + " g/mol" if block else "no result"
             extra = ""
             if entry.get("replicates"):
                 rep = entry["replicates"]
-                extra = f"  n={rep['n']}"
+                extra = f", {rep['n']} run(s)"
                 if rep["birge_ratio"] is not None:
                     extra += f", Birge ratio {rep['birge_ratio']:.2f}"
-            lines.append(f"{_cut(entry['sample'], 16):<16} {value} g/mol{extra}")
+            lines.append(f"{entry['sample']}: ideal gas {value} (k=2){extra}")
+            if entry["candidates"]:
+                lines.append(f"    {'rank':>4}  {'candidate':<24} {'M/(g/mol)':>10}  "
+                             f"{'if it is this gas: M ± U':<24} {'z':>8}  verdict")
             for item in entry["candidates"][:top]:
-                z = f"z={item['z']:+.2f}" if item["z"] is not None else ""
-                lines.append(f"    {item['rank']:>2}. {item['name']:<24} {item['molar_mass']:>9.3f}"
-                             f" g/mol  {item['verdict']:<10} {z}")
+                z = f"{item['z']:+8.2f}" if item["z"] is not None else f"{'-':>8}"
+                measured = format_value(item["measured"]["value"],
+                                        COVERAGE_FACTOR * item["measured"]["u"])
+                lines.append(f"    {item['rank']:>4}  {_cut(item['name'], 24):<24} "
+                             f"{item['molar_mass']:>10.3f}  {measured:<24} {z}  {item['verdict']}")
+            label = entry.get("label")
+            if label:
+                lines.append(f"    label: {_label_text(label)}")
             for note in entry.get("distinguish", []) or []:
                 lines.append(f"    note: {note}")
             for warning in entry["warnings"]:

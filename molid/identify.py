@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from molid.instruments import InstrumentProfile, load_profile
-from molid.methods import MODEL_INPUTS, measurement_model, method_codes
+from molid.methods import INPUT_LABELS, MODEL_INPUTS, measurement_model, method_codes
 from molid.reading import RunTable, read_runs
 from molid.replicates import combine_replicates, shared_inputs
 from molid.uncertainty import COVERAGE_FACTOR, budget_percent, propagate
@@ -184,20 +184,27 @@ def _sample_results(table: RunTable, propagation, errors):
                 f"(Birge ratio {row.birge_ratio:.2f}, chi-squared {row.chi_square:.3g} on "
                 f"{row.n - 1} degrees of freedom, p = {row.p_value:.2g}); the run-to-run part "
                 f"of the uncertainty was widened by the Birge ratio"
+                if row.p_value < 0.05 else
+                f"the runs scatter a little more than their stated uncertainties (Birge ratio "
+                f"{row.birge_ratio:.2f}, p = {row.p_value:.2g}); the run-to-run part of the "
+                "uncertainty was widened to match"
             )
             if row.p_value < 0.01:
                 notes.append(
                     "the runs disagree strongly: look for a run with a mistake before trusting "
                     "the combined value"
                 )
-        members = sample == row.sample
+        members = (sample == row.sample) & ok
+        variance = u[members] ** 2
         shared_names = [
-            name for name in flags
-            if flags[name][members].all() and (propagation.uncertainties[name][members] > 0).any()
+            INPUT_LABELS[name] for name in flags
+            if flags[name][members].all()
+            # only effects big enough to matter: over 1 % of a run's variance
+            and (contributions[name][members] ** 2 > 0.01 * variance).any()
         ]
         if row.n > 1 and shared_names:
             notes.append(
-                "shared by all runs and not reduced by averaging: " + ", ".join(shared_names)
+                "common to all runs, so not reduced by averaging: " + ", ".join(shared_names)
             )
     empty = [name for name, members in sample_runs.items() if not members]
     for name in empty:

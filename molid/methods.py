@@ -39,6 +39,7 @@ from molid.water import MOLAR_MASS_WATER, saturation_pressure_water
 __all__ = [
     "METHOD_CODES",
     "MODEL_INPUTS",
+    "INPUT_LABELS",
     "method_codes",
     "gas_mass",
     "ideal_gas_molar_mass",
@@ -64,6 +65,21 @@ MODEL_INPUTS = (
     "air_density_formula",
     "water_vapour",
 )
+
+#: Words for each input, for people reading a report.
+INPUT_LABELS = {
+    "mass_tare": "tare reading",
+    "mass_filled": "filled reading",
+    "volume": "volume",
+    "temperature": "gas temperature",
+    "pressure": "gas pressure",
+    "humidity": "air humidity",
+    "air_temperature": "balance-room temperature",
+    "air_pressure": "balance-room pressure",
+    "co2": "air CO2 fraction",
+    "air_density_formula": "air-density formula (CIPM-2007)",
+    "water_vapour": "water vapour in the wet gas",
+}
 
 
 def method_codes(methods) -> np.ndarray:

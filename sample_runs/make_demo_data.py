@@ -110,7 +110,7 @@ def qa_cylinders(rng):
 
 
 def main():
-    rng = np.random.default_rng(20261109)
+    rng = np.random.default_rng(20261112)
     qa_cylinders(rng)
 
 
