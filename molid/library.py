@@ -19,6 +19,7 @@ acids, whose vapour is largely dimer) are left out of the default library: a
 gas-density molar mass of such a vapour is not the formula's molar mass.
 """
 
+import csv
 import functools
 import math
 import re
@@ -192,23 +193,40 @@ def _name_key(text):
 
 
 def _read_csv(path):
-    """Read a library file as text cells, keeping blank lines so row numbers stay true."""
+    """Read a library file as text cells, one record per spreadsheet row.
+
+    Blank lines are kept (as empty rows) so that row numbers match what a
+    spreadsheet shows; a row with more or fewer fields than the header is an
+    error rather than being shifted into the wrong columns.
+    """
     try:
-        return pd.read_csv(
-            path,
-            dtype=str,
-            keep_default_na=False,
-            skip_blank_lines=False,
-            encoding="utf-8-sig",
-        )
-    except (pd.errors.ParserError, UnicodeDecodeError) as error:
+        with open(path, encoding="utf-8-sig", newline="") as stream:
+            records = list(csv.reader(stream))
+    except OSError as error:  # missing file, a directory, no permission
         raise LibraryError(
             str(path),
-            [
-                f"cannot be read as comma-separated UTF-8 text ({error}); accepted: a CSV "
-                "file with one header row and the same number of fields on every row"
-            ],
+            [f"cannot be opened ({error.strerror or error}); accepted: a readable CSV file"],
         ) from error
+    except (UnicodeDecodeError, csv.Error) as error:
+        raise LibraryError(
+            str(path),
+            [f"cannot be read as comma-separated UTF-8 text ({error}); accepted: a CSV file"],
+        ) from error
+    if not records or not any(records[0]):
+        raise LibraryError(
+            str(path), ["the file is empty; accepted: a header row and one row per substance"]
+        )
+    header, body = records[0], records[1:]
+    problems = [
+        f"row {number}: {len(record)} fields where the header has {len(header)}; accepted: "
+        "the same number of fields on every row (quote a cell that holds a comma)"
+        for number, record in enumerate(body, start=2)
+        if record and len(record) != len(header)
+    ]
+    if problems:
+        raise LibraryError(str(path), problems)
+    body = [record if record else [""] * len(header) for record in body]
+    return pd.DataFrame(body, columns=header, dtype=object)
 
 
 def _parse_table(table, source, origin):
@@ -221,6 +239,8 @@ def _parse_table(table, source, origin):
     columns = [str(column).strip() for column in table.columns]
     table = table.copy()
     table.columns = columns
+    for column in sorted({column for column in columns if columns.count(column) > 1}):
+        problem(1, column, "column appears more than once", "each column once")
     unknown = [column for column in columns if column not in FILE_COLUMNS]
     for column in unknown:
         hint = ""

@@ -457,8 +457,20 @@ def test_validation_unknown_column_and_separator_hint(tmp_path):
     """An unknown header is row 1; a semicolon-separated export gets a hint."""
     with pytest.raises(LibraryError, match=r"row 1, column 'boiling': unknown column"):
         load_library(_write(tmp_path, ["name,formula,boiling", "argon,Ar,87"]))
+    with pytest.raises(LibraryError, match=r"row 1, column 'name': column appears more than once"):
+        load_library(_write(tmp_path, ["name,formula,name", "argon,Ar,x"], name="twice.csv"))
     with pytest.raises(LibraryError, match=r"seems to use ';'"):
         load_library(_write(tmp_path, ["name;formula", "argon;Ar"], name="semi.csv"))
+
+
+def test_unreadable_files_are_library_errors(tmp_path):
+    """A missing, empty or ragged file is a LibraryError naming the file, not a crash."""
+    with pytest.raises(LibraryError, match="cannot be opened"):
+        load_library(tmp_path / "absent.csv")
+    with pytest.raises(LibraryError, match="the file is empty"):
+        load_library(_write(tmp_path, [""], name="empty.csv"))
+    with pytest.raises(LibraryError, match="row 2: 3 fields where the header has 2"):
+        load_library(_write(tmp_path, ["name,formula", "argon,Ar,extra"], name="ragged.csv"))
 
 
 def test_validation_row_numbers_survive_blank_lines(tmp_path):
