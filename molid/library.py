@@ -111,40 +111,15 @@ _CRITICAL_COLUMNS = ("critical_temperature_K", "critical_pressure_MPa", "acentri
 _NONPOLAR_CLASSES = ("nonpolar", "quantum")
 _LIST_COLUMNS = ("aliases", "ghs_hazards")
 
-# file column -> (output column, factor to SI, rule, what is accepted)
+# file column -> (rule, what is accepted); the conversion to SI is done where the table is built.
 _NUMBER_COLUMNS = {
-    "critical_temperature_K": (
-        "critical_temperature",
-        1.0,
-        "positive",
-        "a temperature in K above 0",
-    ),
-    "critical_pressure_MPa": ("critical_pressure", 1e6, "positive", "a pressure in MPa above 0"),
-    "acentric_factor": (
-        "acentric_factor",
-        1.0,
-        "acentric",
-        f"a number from {ACENTRIC_RANGE[0]} to {ACENTRIC_RANGE[1]}",
-    ),
-    "normal_boiling_point_K": (
-        "normal_boiling_point",
-        1.0,
-        "positive",
-        "a temperature in K above 0",
-    ),
-    "dipole_moment_D": (
-        "dipole_moment",
-        1.0,
-        "non-negative",
-        "a dipole moment in debye, 0 or more",
-    ),
-    "molar_mass_g_per_mol": ("molar_mass", 1e-3, "positive", "a molar mass in g/mol above 0"),
-    "u_molar_mass_g_per_mol": (
-        "u_molar_mass",
-        1e-3,
-        "non-negative",
-        "a standard uncertainty in g/mol, 0 or more",
-    ),
+    "critical_temperature_K": ("positive", "a temperature in K above 0"),
+    "critical_pressure_MPa": ("positive", "a pressure in MPa above 0"),
+    "acentric_factor": ("acentric", f"a number from {ACENTRIC_RANGE[0]} to {ACENTRIC_RANGE[1]}"),
+    "normal_boiling_point_K": ("positive", "a temperature in K above 0"),
+    "dipole_moment_D": ("non-negative", "a dipole moment in debye, 0 or more"),
+    "molar_mass_g_per_mol": ("positive", "a molar mass in g/mol above 0"),
+    "u_molar_mass_g_per_mol": ("non-negative", "a standard uncertainty in g/mol, 0 or more"),
 }
 
 _CAS_PATTERN = re.compile(r"(\d{2,7})-(\d{2})-(\d)")
@@ -262,7 +237,7 @@ def _parse_table(table, source, origin):
     rows = table.index.to_numpy()
 
     numbers = {}
-    for column, (_, _, rule, accepted) in _NUMBER_COLUMNS.items():
+    for column, (rule, accepted) in _NUMBER_COLUMNS.items():
         text = table[column]
         value = np.array(pd.to_numeric(text, errors="coerce"), dtype=float)
         given = (text != "").to_numpy()
