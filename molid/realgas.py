@@ -1,12 +1,15 @@
 r"""Real-gas corrections at laboratory pressures and corresponding-states vapour pressures.
 
 The second virial coefficient :math:`B(T)` comes from the Tsonopoulos
-corresponding-states correlation with its polar terms; the compressibility
-factor from the virial equation truncated after :math:`B` (pressure form); the
-vapour pressure from the Lee–Kesler or the Ambrose–Walton estimate. Each model
-carries a standard relative uncertainty per polar class, read from
-``molid/data/virial_model.csv``, where the ``basis`` columns record the
-comparison against reference equations of state that sized it.
+corresponding-states correlation with its polar terms (and effective critical
+constants for the quantum gases); the compressibility factor from the virial
+equation truncated after :math:`B` (pressure form by default, density form on
+request); the vapour pressure from the Lee–Kesler or the Ambrose–Walton
+estimate. Each model carries a standard uncertainty per polar class, read from
+``molid/data/virial_model.csv``, whose ``basis`` columns record the comparison
+against reference equations of state that sized it: :func:`virial_uncertainty`
+for B, :func:`virial_truncation_uncertainty` for the neglected higher virial
+terms, :func:`vapour_pressure_relative_uncertainty` for the vapour pressure.
 
 All functions take plain numbers or numpy arrays in SI base units and broadcast
 their arguments against each other, so an array of runs of shape ``(n, 1)``
