@@ -109,9 +109,120 @@ def qa_cylinders(rng):
     write(ROOT / "qa_cylinders.csv", rows, columns)
 
 
+# Teaching section: a student's own arithmetic, with the classic mistakes some make.
+ATM_IN_MMHG = 760.0            # 1 atm = 760 mmHg (definition of the standard atmosphere)
+R_LITRE_ATM = R / 101.325      # L·atm/(mol·K): 101.325 J per L·atm
+R_CALORIE = R / 4.184          # cal/(mol·K): thermochemical calorie 4.184 J
+
+
+def student_molar_mass(cells, method, rho_air, mistake=None):
+    """What a student computes from the written readings, in g/mol.
+
+    The student works in L, atm and K with R in L·atm/(mol·K), and adds the
+    displaced air's mass (air density from the instructor's sheet) for an
+    air-tared bulb or a syringe. ``mistake`` changes one step.
+    """
+    tare = float(cells["mass_tare [g]"])
+    filled = float(cells["mass_filled [g]"])
+    volume_ml = float(cells["volume [mL]"])
+    celsius = float(cells["temperature [degC]"])
+    mmhg = float(cells["pressure [mmHg]"])
+    volume = volume_ml / 1000.0
+    temperature = celsius + 273.15
+    pressure = mmhg / ATM_IN_MMHG
+    constant = R_LITRE_ATM
+    air = rho_air * volume  # g, with rho_air in g/L
+    mass = filled - tare + (air if method != "evacuated-bulb" else 0.0)
+    if mistake == "celsius-as-kelvin":
+        temperature = celsius
+    elif mistake == "volume-unit":
+        volume = volume_ml
+    elif mistake == "pressure-unit":
+        pressure = mmhg / 101.325  # divided as if the reading were in kPa
+    elif mistake == "gas-constant-units":
+        constant = R  # 8.314 J/(mol·K) with atm and L
+    elif mistake == "no-buoyancy":
+        mass = filled - tare
+    elif mistake == "masses-swapped":
+        mass = tare - filled + (air if method != "evacuated-bulb" else 0.0)
+    elif mistake == "unexplained":
+        mass = (filled - tare + air) * 1.12  # a slip no single classic mistake explains
+    return mass * constant * temperature / (pressure * volume)
+
+
+def teaching_section(rng):
+    """Two lab sections of the (fictional) Bramblewood Community College general chemistry
+    course weighing unknown gases in gas syringes and air-tared flasks; a few students make
+    the classic mistakes in their own calculation."""
+    unknowns = {  # sample: (key entry, CoolProp fluid)
+        "U-01": ("N2", "Nitrogen"), "U-02": ("O2", "Oxygen"), "U-03": ("Ar", "Argon"),
+        "U-04": ("CO2", "CarbonDioxide"), "U-05": ("n-butane", "n-Butane"),
+        "U-06": ("propane", "n-Propane"), "U-07": ("SF6", "SulfurHexafluoride"),
+        "U-08": ("R-134a", "R134a"), "U-09": ("He", "Helium"),
+    }
+    students = [
+        # name, section, sample, method, mistake
+        ("Amara Quillfeather", "CHEM 1120-02", "U-01", "syringe", None),
+        ("Bastian Okerlund", "CHEM 1120-02", "U-02", "air-tare-bulb", None),
+        ("Carmen Vellacott", "CHEM 1120-02", "U-03", "syringe", "celsius-as-kelvin"),
+        ("Dmitri Halloway", "CHEM 1120-02", "U-04", "air-tare-bulb", "no-buoyancy"),
+        ("Esi Marchbanks", "CHEM 1120-02", "U-05", "syringe", None),
+        ("Farid Ostrander", "CHEM 1120-02", "U-06", "air-tare-bulb", None),
+        ("Greta Penhallow", "CHEM 1120-02", "U-07", "syringe", None),
+        ("Hiroshi Tamblyn", "CHEM 1120-02", "U-08", "air-tare-bulb", "volume-unit"),
+        ("Ines Carrowmore", "CHEM 1120-02", "U-09", "syringe", None),
+        ("Jonah Featherstone", "CHEM 1120-02", "U-04", "syringe", None),
+        ("Kalinda Brisbane", "CHEM 1120-02", "U-01", "air-tare-bulb", "pressure-unit"),
+        ("Lucien Abernethy", "CHEM 1120-02", "U-06", "syringe", None),
+        ("Mireille Dunstable", "CHEM 1120-04", "U-02", "syringe", None),
+        ("Nnamdi Ravensworth", "CHEM 1120-04", "U-03", "air-tare-bulb", None),
+        ("Oksana Pellinore", "CHEM 1120-04", "U-04", "syringe", "masses-swapped"),
+        ("Pavel Winterbourne", "CHEM 1120-04", "U-05", "air-tare-bulb", None),
+        ("Quentin Marlowe-Tey", "CHEM 1120-04", "U-06", "syringe", "gas-constant-units"),
+        ("Rosalind Achterberg", "CHEM 1120-04", "U-07", "air-tare-bulb", None),
+        ("Sefa Lindgarth", "CHEM 1120-04", "U-08", "syringe", None),
+        ("Tamsin Orrell", "CHEM 1120-04", "U-09", "syringe", "no-buoyancy"),
+        ("Ulrich Bellweather", "CHEM 1120-04", "U-01", "syringe", None),
+        ("Valentina Stroud", "CHEM 1120-04", "U-07", "syringe", "unexplained"),
+        ("Wen Hartigan", "CHEM 1120-04", "U-05", "syringe", None),
+        ("Xavier Colquhoun", "CHEM 1120-04", "U-03", "syringe", None),
+    ]
+    rows = []
+    room_c = 21.0 + rng.random()
+    room_mmhg = 748.0 + 6.0 * rng.random()
+    rh = 35 + 15 * rng.random()
+    for number, (name, section, sample, method, mistake) in enumerate(students, start=1):
+        volume_ml = 100.0 if method == "syringe" else 250.3
+        temp_c = room_c + 0.3 * rng.standard_normal()
+        run = make_run(rng, method=method, gas=unknowns[sample][1], volume_ml=volume_ml,
+                       temp_c=temp_c, pressure_kpa=room_mmhg * 0.133322387415, rh=rh,
+                       u_mass_g=0.0001, u_temp=0.1, u_pressure=0.0)
+        pressure_kpa = float(run.pop("pressure [kPa]"))
+        run["pressure [mmHg]"] = f"{pressure_kpa / 0.133322387415:.1f}"
+        run["u_volume [mL]"] = "0.5" if method == "syringe" else "0.1"
+        # the instructor's sheet gives the room's air density, rounded to 0.001 g/L
+        T = float(run["temperature [degC]"]) + 273.15
+        rho_air = round(simulate.air_density(T, pressure_kpa * 1e3, rh / 100), 3)
+        reported = student_molar_mass(run, method, rho_air, mistake)
+        rows.append({"run": f"B{number:02d}", "student": name, "section": section,
+                     "sample": sample, "method": method, **run,
+                     "reported_molar_mass [g/mol]": f"{reported:#.4g}"})
+    # A student who handed in no readings.
+    rows.append({"run": "B25", "student": "Yara Thistlewood", "section": "CHEM 1120-04",
+                 "sample": "U-02", "method": "syringe"})
+    columns = ["run", "student", "section", "sample", "method", "mass_tare [g]",
+               "mass_filled [g]", "volume [mL]", "u_volume [mL]", "temperature [degC]",
+               "pressure [mmHg]", "humidity [%]", "reported_molar_mass [g/mol]"]
+    write(ROOT / "teaching_section.csv", rows, columns)
+    write(ROOT / "teaching_key.csv",
+          [{"sample": sample, "expected": entry} for sample, (entry, _) in unknowns.items()],
+          ["sample", "expected"])
+
+
 def main():
     rng = np.random.default_rng(20261112)
     qa_cylinders(rng)
+    teaching_section(np.random.default_rng(20261203))
 
 
 if __name__ == "__main__":
