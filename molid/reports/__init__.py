@@ -1,0 +1,238 @@
+"""Printable reports: a PDF or self-contained HTML file with a page per sample or run.
+
+``molid report FILE -o report.pdf`` writes, for an identify-style file, a page per
+sample (replicates together) or per run without a sample: header, inputs with
+units and standard uncertainties, the molar mass with its expanded uncertainty,
+the uncertainty budget as a table and a chart, the ranked candidates, the
+molar-mass axis, what the run cannot tell apart, the label check, warnings,
+safety cautions and signature lines. For a graded file (``--key``, or ``student``
+and ``expected``/``reported_molar_mass`` columns) it writes a sheet per student
+and the class summary.
+
+The page model is built once (:mod:`molid.reports.content`) and drawn by either
+writer (:mod:`molid.reports.pdf`, :mod:`molid.reports.html`). matplotlib and fpdf2
+are imported only when a report is drawn.
+"""
+
+from __future__ import annotations
+
+import datetime
+import io
+import os
+import sys
+from pathlib import Path
+
+from molid.reading import InputError
+
+__all__ = [
+    "ReportError",
+    "FORMATS",
+    "build_report",
+    "render_report",
+    "write_report",
+    "run_report_command",
+    "is_graded",
+]
+
+FORMATS = ("pdf", "html")
+
+
+class ReportError(InputError):
+    """A report that cannot be made as asked (format, missing module); no traceback."""
+
+
+def _normalise(header) -> str:
+    from molid.reports.content import _normalise_header
+
+    return _normalise_header(header)
+
+
+def is_graded(columns, key=None) -> bool:
+    """Tell whether a file is to be reported as graded work.
+
+    A file is graded when an answer key is given, or when it has a ``student``
+    column and an ``expected`` or ``reported_molar_mass`` column.
+
+    Examples
+    --------
+    >>> is_graded(["run", "student", "expected", "mass_tare [g]"])
+    True
+    >>> is_graded(["run", "operator", "expected"])
+    False
+    """
+    if key is not None:
+        return True
+    names = {_normalise(column) for column in columns}
+    return "student" in names and bool(names & {"expected", "reported_molar_mass"})
+
+
+def _generated():
+    """Return the report's date: SOURCE_DATE_EPOCH when set (reproducible builds), else now."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch and epoch.strip().isdigit():
+        moment = datetime.datetime.fromtimestamp(int(epoch), tz=datetime.timezone.utc)
+    else:
+        moment = datetime.datetime.now(datetime.timezone.utc)
+    return moment
+
+
+def _stream(data: bytes, name: str):
+    stream = io.BytesIO(data)
+    stream.name = name
+    return stream
+
+
+def _read_source(source):
+    """Read a path, '-' or file-like into bytes and a display name (a DataFrame passes as is)."""
+    import pandas as pd
+
+    if isinstance(source, pd.DataFrame):
+        return None, source, "data frame"
+    if str(source) == "-":
+        return sys.stdin.buffer.read(), None, "standard input"
+    if hasattr(source, "read"):
+        data = source.read()
+        return (data.encode("utf-8") if isinstance(data, str) else data), None, getattr(
+            source, "name", "stream")
+    try:
+        return Path(source).read_bytes(), None, str(source)
+    except FileNotFoundError:
+        raise InputError(f"{source}: no such file") from None
+    except IsADirectoryError:
+        raise InputError(f"{source}: is a folder, not a file") from None
+    except OSError as error:
+        raise InputError(f"{source}: cannot read it ({error.strerror})") from None
+
+
+def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=None,
+                 graded=None):
+    """Analyse a run file and build the report's page model.
+
+    Parameters
+    ----------
+    source : str, pathlib.Path, file-like or pandas.DataFrame
+        The run file ('-' reads standard input).
+    profile : InstrumentProfile or path, optional
+        Default uncertainties.
+    library : pandas.DataFrame, optional
+        Candidate library; the built-in one when None.
+    top : int
+        Ranked candidates per page.
+    key, rubric : path, optional
+        Answer key and rubric, for graded files.
+    graded : bool, optional
+        Force (True) or forbid (False) the graded report; detected when None.
+
+    Returns
+    -------
+    report : Report
+        The page model.
+    ok : bool
+        False when some rows had errors.
+    """
+    from molid.identify import identify
+    from molid.reading import read_raw
+
+    data, frame, name = _read_source(source)
+
+    def fresh():
+        return frame if frame is not None else _stream(data, name)
+
+    if graded is None:
+        raw, _, _, _ = read_raw(fresh())
+        graded = is_graded(raw.columns, key)
+    moment = _generated()
+    if graded:
+        from molid.reports.grading import graded_report
+
+        report, ok = graded_report(fresh(), key=key, rubric=rubric, profile=profile,
+                                   library=library, top=top)
+    else:
+        from molid.reports.content import identify_report
+
+        result = identify(fresh(), profile=profile, library=library)
+        report = identify_report(result, top=top)
+        ok = bool(result.ok.all())
+    from molid import __version__
+
+    report.version = __version__
+    report.generated = moment.strftime("%Y-%m-%d %H:%M UTC")
+    report.generated_datetime = moment
+    return report, ok
+
+
+def render_report(report, format="pdf", paper="a4") -> bytes:
+    """Draw a page model as PDF or HTML bytes."""
+    if format == "pdf":
+        from molid.reports.pdf import render_pdf
+
+        return render_pdf(report, paper=paper)
+    if format == "html":
+        from molid.reports.html import render_html
+
+        return render_html(report, paper=paper)
+    raise ReportError(f"report format '{format}' is not one of {', '.join(FORMATS)}")
+
+
+def _format_for(output, format):
+    if format:
+        return format
+    suffix = Path(str(output)).suffix.lower()
+    return "html" if suffix in (".html", ".htm") else "pdf"
+
+
+def write_report(source, output, *, format=None, paper="a4", profile=None, library=None,
+                 top=5, key=None, rubric=None, force=False, inputs=()):
+    """Analyse ``source`` and write its report to ``output`` (atomically).
+
+    Parameters
+    ----------
+    source : str, pathlib.Path, file-like or pandas.DataFrame
+        The run file.
+    output : str or pathlib.Path
+        The report file; an existing file is replaced only with ``force``.
+    format : {'pdf', 'html'}, optional
+        From the output's suffix when None (``.html``/``.htm`` → HTML, else PDF).
+    paper : {'a4', 'letter'}
+        Paper size.
+    profile, library, top, key, rubric
+        As for :func:`build_report`.
+    force : bool
+        Replace an existing output file.
+    inputs : iterable of path
+        Other files the command reads; the output may not be one of them.
+
+    Returns
+    -------
+    path : pathlib.Path
+        The file written.
+    ok : bool
+        False when some rows had errors (the report shows them).
+    """
+    from molid.safeio import check_output_path, write_atomic
+
+    source_path = None if hasattr(source, "read") or not isinstance(source, (str, Path)) \
+        else source
+    path = check_output_path(output, [source_path, profile if isinstance(profile, (str, Path))
+                                      else None, key, rubric, *inputs], force)
+    report, ok = build_report(source, profile=profile, library=library, top=top, key=key,
+                              rubric=rubric)
+    write_atomic(path, render_report(report, _format_for(path, format), paper))
+    return path, ok
+
+
+def run_report_command(args) -> int:
+    """Run the ``molid report`` command; return the exit status (0, or 1 when rows had errors)."""
+    library = None
+    if args.library or args.replace_library or args.candidate:
+        from molid.library import load_library
+
+        library = load_library(args.library, mode="replace" if args.replace_library else "merge",
+                               extra_candidates=tuple(args.candidate))
+    path, ok = write_report(
+        args.file, args.output, format=args.format, paper=args.paper, profile=args.profile,
+        library=library, top=args.top, key=args.key, rubric=args.rubric, force=args.force,
+        inputs=[args.library],
+    )
+    print(f"wrote {path}", file=sys.stderr)
+    return 0 if ok else 1

@@ -1,0 +1,674 @@
+"""The report as a format-neutral page model, shared by the PDF and HTML writers.
+
+A :class:`Report` is a list of :class:`Page` objects, each a list of blocks
+(fields, a highlighted result, tables, figures, bullet lists, a signature line).
+Everything here is plain text and numbers; the writers decide how to draw it,
+and user-provided text is never interpreted as markup by either of them.
+
+Numbers leave SI here: masses in the user's units, molar masses in g/mol,
+each rounded to its uncertainty (two significant digits of U).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from molid.methods import INPUT_LABELS
+from molid.uncertainty import COVERAGE_FACTOR
+
+__all__ = [
+    "Fields",
+    "Highlight",
+    "Table",
+    "Plot",
+    "Bullets",
+    "Signature",
+    "Columns",
+    "Page",
+    "Report",
+    "identify_report",
+    "hazard_cautions",
+    "SAFETY_FOOTNOTE",
+    "format_number",
+    "format_with_uncertainty",
+]
+
+_G = 1e3  # kg/mol → g/mol
+
+#: The closing line of every safety box.
+SAFETY_FOOTNOTE = (
+    "These reminders are not a risk assessment. Follow local codes, the site's safety rules "
+    "and the substance's safety data sheet (SDS)."
+)
+
+#: Cautions keyed by the start of a GHS hazard-class abbreviation (common practice of
+#: compressed-gas handling; the classes are those of the GHS / CLP Regulation).
+_CAUTIONS = (
+    ("Press. Gas", "gas under pressure: secure the cylinder upright, use the regulator made for "
+                   "this gas, close the valve after use"),
+    ("Flam. Gas", "flammable gas: no ignition sources nearby, ventilate, check fittings for leaks"),
+    ("Flam. Liq.", "flammable liquid or vapour: no open flames; heat it only in a water bath"),
+    ("Pyr. Gas", "pyrophoric: ignites on contact with air; handle only in a purged system"),
+    ("Chem. Unst. Gas", "chemically unstable gas: can decompose explosively; avoid heat and "
+                        "pressure shocks"),
+    ("Ox. Gas", "oxidising gas: keep away from combustibles; oil- and grease-free fittings only"),
+    ("Acute Tox.", "toxic: work in a fume hood with gas detection, never alone"),
+    ("Skin Corr.", "corrosive: goggles and gloves; use corrosion-resistant regulators"),
+    ("Eye Dam.", "serious eye damage: wear goggles"),
+    ("Carc.", "carcinogen, mutagen or reproductive toxicant: closed handling, exposure as low "
+              "as possible"),
+    ("Muta.", "carcinogen, mutagen or reproductive toxicant: closed handling, exposure as low "
+              "as possible"),
+    ("Repr.", "carcinogen, mutagen or reproductive toxicant: closed handling, exposure as low "
+              "as possible"),
+    ("STOT", "harms organs by inhalation: do not breathe the gas; use local exhaust"),
+    ("Simple asphyxiant", "asphyxiant: displaces oxygen; ventilate, use an oxygen monitor in "
+                          "closed rooms"),
+    ("Ozone", "harms the ozone layer: recover the gas, do not vent it"),
+    ("Aquatic", "toxic to aquatic life: do not release it"),
+    ("Radioactive", "radioactive: radiation-protection rules apply"),
+)
+
+_GLASS_CAUTION = ("evacuated glass can implode: shield or tape the bulb and wear eye protection")
+
+_UNIT_WORDS = {"degC": "°C", "degF": "°F", "percent": "%", "m**3": "m³", "cm**3": "cm³",
+               "cm^3": "cm³", "m^3": "m³", "kelvin": "K"}
+
+#: Inputs shown in the inputs table, in order.
+_INPUT_COLUMNS = ("mass_tare", "mass_filled", "volume", "temperature", "pressure", "humidity")
+_SHORT = {"mass_tare": "tare", "mass_filled": "filled", "volume": "V", "temperature": "T",
+          "pressure": "p", "humidity": "RH", "air_temperature": "air T",
+          "air_pressure": "air p", "co2": "CO₂"}
+
+_OPERATOR_HEADERS = ("operator", "analyst", "analysed_by", "student", "name")
+_DATE_HEADERS = ("date", "run_date", "analysis_date")
+_NOTE_HEADERS = ("notes", "note", "comment", "comments", "remark", "remarks")
+
+
+# -- the page model --------------------------------------------------------------------
+@dataclass
+class Fields:
+    """Labelled values (the header of a page), shown as a two-column grid."""
+
+    items: list
+
+
+@dataclass
+class Highlight:
+    """The result of the page, in a box: a list of lines, the first one emphasised."""
+
+    lines: list
+
+
+@dataclass
+class Table:
+    """A table of text cells.
+
+    ``widths`` are relative column widths; ``align`` is one letter per column
+    (``L`` or ``R``); ``styles`` optionally gives, per row, per cell, a style name the
+    writers map to a colour (``consistent``, ``marginal``, ``excluded``, ``condenses``,
+    ``error``, ``muted``) or None. ``bars`` names a column of percentages drawn
+    as horizontal bars (a bar chart inside the table).
+    """
+
+    title: str
+    columns: list
+    rows: list
+    widths: list
+    align: str = ""
+    styles: list | None = None
+    note: str = ""
+    bars: int | None = None
+
+
+@dataclass
+class Columns:
+    """Two blocks side by side; ``split`` is the left block's width [mm] of 180."""
+
+    left: object
+    right: object
+    split: float = 88.0
+
+
+@dataclass
+class Plot:
+    """A figure: ``make()`` returns a matplotlib Figure; size in millimetres."""
+
+    make: object
+    width: float
+    height: float
+    alt: str = ""
+    title: str = ""
+
+
+@dataclass
+class Bullets:
+    """A titled list of sentences; ``kind`` picks the look (note, warning, safety, error)."""
+
+    title: str
+    items: list
+    kind: str = "note"
+    footnote: str = ""
+
+
+@dataclass
+class Signature:
+    """Signature and date lines for the filed record."""
+
+    roles: tuple = ("Analysed by", "Checked by")
+
+
+@dataclass
+class Page:
+    """One printed page (it may run over onto the next if its content is long)."""
+
+    title: str
+    subtitle: str = ""
+    blocks: list = field(default_factory=list)
+    key: str = ""
+
+
+@dataclass
+class Report:
+    """A whole report: title, source, pages."""
+
+    title: str
+    source: str
+    pages: list
+    generated: str = ""
+    version: str = ""
+    generated_datetime: object = None
+
+
+# -- number formatting -------------------------------------------------------------------
+def _decimals(expanded) -> int:
+    if expanded is None or not np.isfinite(expanded) or expanded <= 0:
+        return 4
+    return max(0, 1 - int(math.floor(math.log10(expanded))))
+
+
+def format_with_uncertainty(value, expanded, unit="") -> str:
+    """Format a value and its expanded uncertainty, rounded to two significant digits of U.
+
+    Examples
+    --------
+    >>> format_with_uncertainty(39.96312, 0.02234, " g/mol")
+    '39.963 ± 0.022 g/mol'
+    """
+    if value is None or not np.isfinite(value):
+        return "–"
+    decimals = _decimals(expanded)
+    return f"{value:.{decimals}f} ± {expanded:.{decimals}f}{unit}"
+
+
+def format_number(value, digits=10) -> str:
+    """Format a number as a person would write it (no float noise), '–' when missing.
+
+    Examples
+    --------
+    >>> format_number(21.720000000000027)
+    '21.72'
+    """
+    if value is None or not np.isfinite(value):
+        return "–"
+    text = f"{value:.{digits}g}"
+    return text.replace("-", "−") if text.startswith("-") else text
+
+
+def _signed(value, places=2) -> str:
+    if value is None or not np.isfinite(value):
+        return "–"
+    return f"{value:+.{places}f}".replace("-", "−")
+
+
+def _compact(value) -> str:
+    """Format three significant digits, in exponent form when tiny, with a true minus sign.
+
+    Examples
+    --------
+    >>> _compact(-0.000123), _compact(64.4)
+    ('−0.00012', '64.4')
+    """
+    if not np.isfinite(value):
+        return "–"
+    text = f"{value:.2g}" if 0 < abs(value) < 1e-3 else f"{value:.3g}"
+    if "e" in text:
+        text = f"{value:.1e}"
+    return text.replace("-", "−")
+
+
+def _unit_text(unit) -> str:
+    text = unit.text if unit is not None else ""
+    return _UNIT_WORDS.get(text, text)
+
+
+def _to_display(values, unit):
+    """Convert SI values to the user's unit (a ColumnUnit has SI = value·scale + offset)."""
+    return (np.asarray(values, dtype=float) - unit.offset) / unit.scale
+
+
+# -- the user's free columns ---------------------------------------------------------------
+def _normalise_header(text) -> str:
+    name = re.sub(r"\[.*?\]", "", str(text)).strip().lower()
+    return re.sub(r"[\s\-]+", "_", name)
+
+
+def _free_column(raw, names):
+    """Find the first raw column whose header is one of ``names`` (text cells), or None."""
+    for column in raw.columns:
+        if _normalise_header(column) in names:
+            return raw[column].astype(str).str.strip().to_numpy(dtype=object)
+    return None
+
+
+def _joined(cells, positions) -> str:
+    if cells is None:
+        return ""
+    seen = []
+    for position in positions:
+        value = cells[position]
+        if value and value not in seen:
+            seen.append(value)
+    return ", ".join(seen)
+
+
+# -- safety ---------------------------------------------------------------------------------
+def hazard_cautions(hazards) -> list:
+    """Give plain-words cautions for GHS hazard-class abbreviations (no duplicates).
+
+    Examples
+    --------
+    >>> hazard_cautions(["Flam. Gas 1A", "Press. Gas (Liq.)"])[0][:17]
+    'gas under pressur'
+    """
+    found = []
+    for prefix, caution in _CAUTIONS:
+        if any(str(item).startswith(prefix) for item in hazards) and caution not in found:
+            found.append(caution)
+    return found
+
+
+def _safety_block(candidates, library_hazards, methods) -> Bullets:
+    items = []
+    cautions: list = []
+    for item in candidates:
+        hazards = library_hazards.get(item["name"], [])
+        if hazards:
+            items.append(f"{item['name']}: {'; '.join(hazards)}")
+        else:
+            items.append(f"{item['name']}: no GHS hazard class in the library")
+        for caution in hazard_cautions(hazards):
+            if caution not in cautions:
+                cautions.append(caution)
+    if any(method in ("evacuated-bulb", "air-tare-bulb") for method in methods):
+        cautions.append(_GLASS_CAUTION)
+    if cautions:
+        items.append("Precautions: " + "; ".join(cautions) + ".")
+    return Bullets("Safety: hazard classes (GHS) of the leading candidates", items, "safety",
+                   SAFETY_FOOTNOTE)
+
+
+def _safety_candidates(candidates):
+    """Pick the candidates a safety note covers: those not excluded, else the first three."""
+    kept = [item for item in candidates if item["verdict"] in ("consistent", "marginal")]
+    return (kept or candidates[:3])[:4]
+
+
+# -- label and separation texts -------------------------------------------------------------
+def label_sentence(label) -> str:
+    """Say in one sentence whether the ``expected`` label agrees with the result."""
+    if not label:
+        return ""
+    if label["verdict"] == "not-in-library":
+        return (f"Label '{label['expected']}': not in the candidate library, so it could not be "
+                "checked (add it with --candidate FORMULA=NAME).")
+    meaning = {
+        "consistent": "the measurement agrees with the label",
+        "marginal": "the measurement is at the edge of agreeing with the label",
+        "excluded": "the measurement does NOT agree with the label",
+        "condenses": "the labelled substance would be liquid at these conditions",
+    }[label["verdict"]]
+    z = f", z = {_signed(label['z'])}" if label.get("z") is not None else ""
+    return (f"Label '{label['expected']}' ({label['name']}): {label['verdict'].upper()} "
+            f"(rank {label['rank']}{z}): {meaning}.")
+
+
+# -- the identify report -----------------------------------------------------------------------
+def _groups(result):
+    """Group the table into pages: (key, positions in the table), in file order."""
+    text = result.table.text
+    samples = text["sample"].to_numpy(dtype=object)
+    groups = {}
+    order = []
+    for position, sample in enumerate(samples):
+        key = ("sample", sample) if sample is not None else ("run", position)
+        if key not in groups:
+            groups[key] = []
+            order.append(key)
+        groups[key].append(position)
+    return [(key, groups[key]) for key in order]
+
+
+def _inputs_table(result, positions, run_labels, notes=()) -> Table:
+    table = result.table
+    names = list(_INPUT_COLUMNS)
+    for extra in ("air_temperature", "air_pressure"):
+        if table.given[extra][positions].any():
+            names.append(extra)
+    if table.wet[positions].any():
+        names.append("wet")
+    methods = table.text["method"].to_numpy(dtype=object)[positions]
+    show_method = len({m for m in methods}) > 1
+    columns = ["run"] + (["method"] if show_method else [])
+    widths = [16.0] + ([22.0] if show_method else [])
+    display = {}
+    same_u = {}
+    for name in names:
+        if name == "wet":
+            columns.append("wet")
+            widths.append(9.0)
+            continue
+        unit = table.units[name]
+        columns.append(f"{_SHORT[name]} [{_unit_text(unit)}]")
+        widths.append(15.0 if name.startswith("mass") else 13.0)
+        values = _to_display(table.values[name][positions], unit)
+        u = np.asarray(table.uncertainties[name][positions], dtype=float) / unit.scale
+        display[name] = (values, u)
+        finite = u[np.isfinite(u)]
+        same_u[name] = bool(len(finite) == len(u) and np.allclose(finite, finite[0], rtol=1e-9))
+    columns += ["gas mass [g]", "M (ideal gas) ± U [g/mol]"]
+    widths += [15.0, 27.0]
+    rows, styles = [], []
+    for k, position in enumerate(positions):
+        row = [run_labels[position]] + ([methods[k] or "?"] if show_method else [])
+        for name in names:
+            if name == "wet":
+                row.append("yes" if table.wet[position] else "no")
+                continue
+            values, u = display[name]
+            cell = format_number(values[k])
+            if not same_u[name] and np.isfinite(u[k]):
+                cell += f" ({u[k]:.2g})"
+            row.append(cell)
+        if result.errors[position]:
+            row += ["–", "error (see below)"]
+            styles.append([None] * (len(row) - 1) + ["error"])
+        else:
+            gas = result.propagation.extras["gas_mass"][position] * 1e3
+            row.append(f"{gas:.4f}")
+            row.append(format_with_uncertainty(result.molar_mass[position] * _G,
+                                               result.U[position] * _G))
+            styles.append(None)
+        rows.append(row)
+    if any(same_u[name] for name in display):
+        row = ["u (std.)"] + ([""] if show_method else [])
+        for name in names:
+            if name == "wet":
+                row.append("")
+                continue
+            values, u = display[name]
+            row.append(f"{u[0]:.2g}" if same_u[name] and np.isfinite(u[0]) else "per run")
+        row += ["", ""]
+        rows.append(row)
+        styles.append(["muted"] * len(row))
+    note = ("Readings as entered, in the file's units; u (std.) is the standard uncertainty "
+            "of each reading; U is the expanded uncertainty, k = 2 (about 95 %).")
+    if notes:
+        note += " " + " ".join(item[0].upper() + item[1:] + ("" if item.endswith(".") else ".")
+                               for item in notes)
+    return Table("Inputs and per-run results", columns, rows, widths,
+                 "L" + ("L" if show_method else "") + "R" * (len(columns) - 1 - show_method),
+                 styles if any(styles) else None, note)
+
+
+def _budget_rows(result, positions):
+    """Summarise the budget: mean share [%], RMS contribution [g/mol], u(x) and c."""
+    table = result.table
+    ok = [p for p in positions if not result.errors[p]]
+    rows = []
+    for name, shares in result.budget.items():
+        u_si = result.propagation.uncertainties[name][ok]
+        if not np.any(u_si > 0):
+            continue
+        share = float(np.nanmean(shares[ok]))
+        contribution = float(np.sqrt(np.nanmean(result.propagation.contributions[name][ok] ** 2)))
+        sensitivity = float(np.nanmean(result.propagation.sensitivities[name][ok]))
+        unit = table.units.get(name)
+        if unit is not None:
+            u_display = float(np.nanmean(u_si)) / unit.scale
+            c_display = sensitivity * unit.scale * _G
+            unit_text = _unit_text(unit)
+        else:  # relative terms of the model (formula, water vapour) have no unit
+            u_display = float(np.nanmean(u_si))
+            c_display = sensitivity * _G
+            unit_text = ""
+        rows.append((name, share, contribution * _G, u_display, c_display, unit_text))
+    rows.sort(key=lambda row: -row[1])
+    return rows
+
+
+def _budget_table(rows, runs_count) -> Table:
+    shown = [row for row in rows if row[1] >= 0.05]
+    rest = [row for row in rows if row[1] < 0.05]
+    cells = []
+    for name, share, contribution, u, c, unit in shown:
+        cells.append([INPUT_LABELS.get(name, name), f"{u:.2g} {unit}".strip(), _compact(c),
+                      f"{contribution:.2g}", f"{share:.1f}"])
+    if rest:
+        total = sum(row[1] for row in rest)
+        cells.append([f"{len(rest)} more inputs", "", "", "", f"{total:.2f}"])
+    title = "Uncertainty budget" + (f" (mean over the {runs_count} runs)" if runs_count > 1 else "")
+    return Table(title, ["input x", "u(x)", "c", "u_i(M)", "share of variance [%]"], cells,
+                 [27.0, 14.0, 14.0, 11.0, 20.0], "LRRRR", None,
+                 "c = ∂M/∂x [g/mol per unit of x]; u_i(M) = |c|·u(x) [g/mol]; the shares of "
+                 "the variance add to 100 %.", bars=4)
+
+
+def _candidate_table(candidates, top) -> Table:
+    rows, styles = [], []
+    for item in candidates[:top]:
+        measured = item["measured"]
+        rows.append([
+            str(item["rank"]), item["name"], item["formula"] or "–", f"{item['molar_mass']:.3f}",
+            format_with_uncertainty(measured["value"], COVERAGE_FACTOR * measured["u"]),
+            f"{item['Z']:.4f}", _signed(item["z"]), item["verdict"],
+        ])
+        styles.append([None] * 7 + [item["verdict"]])
+    return Table(
+        f"Candidates, ranked (top {min(top, len(candidates))})",
+        ["#", "candidate", "formula", "M [g/mol]", "if it is this gas: M ± U", "Z", "z",
+         "verdict"],
+        rows, [7.0, 38.0, 20.0, 18.0, 36.0, 15.0, 14.0, 22.0], "RLLRRRRL", styles,
+        "Re-evaluated with each candidate's compressibility factor Z (virial, Tsonopoulos B); "
+        "z = (value − M)/u; |z| ≤ 2 consistent, ≤ 3 marginal, else excluded.",
+    )
+
+
+def _nearby(candidates, value, expanded, label_name, limit=6):
+    """Pick the candidates for the molar-mass axis: the closest, the best and the label."""
+    window = max(8.0 * expanded, 0.015 * value)
+    close = sorted((item for item in candidates if abs(item["molar_mass"] - value) <= window),
+                   key=lambda item: abs(item["molar_mass"] - value))[:limit]
+    chosen = {item["name"]: item for item in close}
+    for item in candidates[:1] + [c for c in candidates if c["name"] == label_name]:
+        chosen.setdefault(item["name"], item)
+    return sorted(chosen.values(), key=lambda item: item["molar_mass"])
+
+
+def _plot_block(value, expanded, nearby, label_name) -> Plot:
+    from molid.reports import figures
+
+    points = [(item["name"], item["molar_mass"], item["measured"]["value"],
+               COVERAGE_FACTOR * item["measured"]["u"], item["verdict"],
+               item["name"] == label_name) for item in nearby]
+
+    def make():
+        return figures.axis_figure(value, expanded, points, height=43.0)
+
+    return Plot(make, 90.0, 43.0,
+                "The molar-mass axis: the grey band is the result's interval (ideal gas, ±U); "
+                "for each nearby candidate, its molar mass (diamond) and the value the "
+                "measurement gives if the gas is that candidate (dot, ±U).")
+
+
+def _page_for(result, key, positions, run_labels, columns, top, library_hazards) -> Page:
+    table = result.table
+    text = table.text
+    ranking = result.ranking
+    kind, ident = key
+    ok_positions = [p for p in positions if not result.errors[p]]
+    runs = [run_labels[p] for p in positions]
+    methods = [m for m in text["method"].to_numpy(dtype=object)[positions] if m]
+    blocks = []
+    if kind == "sample":
+        title = f"Sample {ident}"
+    else:
+        title = f"Run {runs[0]}"
+    fields = []
+    if kind == "sample":
+        fields.append(("Sample", ident))
+    fields.append(("Runs" if len(runs) > 1 else "Run", ", ".join(runs)))
+    operator = _joined(columns["operator"], positions)
+    if operator:
+        fields.append((columns["operator_label"], operator))
+    date = _joined(columns["date"], positions)
+    if date:
+        fields.append(("Date", date))
+    fields.append(("Method", ", ".join(dict.fromkeys(methods)) or "–"))
+    rows = ", ".join(str(table.row_numbers[p]) for p in positions)
+    fields.append(("Source", f"{table.source or 'data'} (row {rows})" if len(positions) == 1
+                   else f"{table.source or 'data'} (rows {rows})"))
+    blocks.append(Fields(fields))
+
+    # the result: the sample's combined value, or the single run's
+    candidates, extras, value, u = [], {}, None, None
+    frame = result.samples.set_index("sample") if len(result.samples) else None
+    lines = []
+    if kind == "sample" and frame is not None and ident in frame.index and ok_positions:
+        row = frame.loc[ident]
+        value, u = float(row["value"]) * _G, float(row["u"]) * _G
+        if ranking is not None:
+            candidates = ranking.sample_candidates(ident)
+            extras = ranking.sample_extras(ident)
+        combined = f"combined from {int(row['n'])} runs (inverse-variance weighted" + (
+            f"; Birge ratio {row['birge_ratio']:.2f}" if np.isfinite(row["birge_ratio"]) else "")
+        combined += ", run-to-run part widened)" if row["widened"] else ")"
+        origin = combined if int(row["n"]) > 1 else "from 1 run"
+    elif ok_positions:
+        position = ok_positions[0]
+        value, u = result.molar_mass[position] * _G, result.u[position] * _G
+        if ranking is not None:
+            candidates = ranking.run_candidates(position)
+            extras = ranking.run_extras(position)
+        origin = "from 1 run"
+    if value is not None:
+        expanded = COVERAGE_FACTOR * u
+        decimals = _decimals(expanded)
+        lines.append(f"Molar mass (ideal gas): {format_with_uncertainty(value, expanded)} g/mol"
+                     f"  (U, k = 2, about 95 %)")
+        lines.append(f"Interval {value - expanded:.{decimals}f} to {value + expanded:.{decimals}f}"
+                     f" g/mol; standard uncertainty u = {u:.2g} g/mol; {origin}.")
+        if candidates:
+            best = candidates[0]
+            measured = best["measured"]
+            lines.append(
+                f"Best candidate: {best['name']} ({best['formula'] or '–'}), {best['verdict']}, "
+                f"z = {_signed(best['z'])}; if it is {best['name']}, the real-gas molar mass is "
+                f"{format_with_uncertainty(measured['value'], COVERAGE_FACTOR * measured['u'])}"
+                f" g/mol (M = {best['molar_mass']:.3f} g/mol)."
+            )
+    else:
+        lines.append("No result: no run of this page could be analysed (see the errors below).")
+    blocks.append(Highlight(lines))
+    blocks.append(_inputs_table(result, positions, run_labels, result.notes))
+
+    label = extras.get("label")
+    if value is not None:
+        budget = _budget_rows(result, positions)
+        nearby = _nearby(candidates, value, COVERAGE_FACTOR * u, label["name"] if label else None)
+        blocks.append(Columns(_budget_table(budget, len(ok_positions)),
+                              _plot_block(value, COVERAGE_FACTOR * u, nearby,
+                                          label["name"] if label else None)))
+        if candidates:
+            blocks.append(_candidate_table(candidates, top))
+
+    findings = []
+    if label:
+        findings.append(label_sentence(label))
+    findings += [note[0].upper() + note[1:] for note in extras.get("distinguish", []) or []]
+    for item in candidates[:top]:
+        if item.get("note") and item["verdict"] != "excluded":
+            findings.append(f"{item['name']}: {item['note']}.")
+    if findings:
+        blocks.append(Bullets("What the measurement can and cannot tell", findings, "note"))
+
+    warnings = []
+    if kind == "sample":
+        warnings += list(result.sample_warnings.get(ident, []))
+    for position in positions:
+        for message in result.warnings[position]:
+            warnings.append(f"{run_labels[position]}: {message}")
+    errors = [f"{run_labels[p]}: {message}" for p in positions for message in result.errors[p]]
+    if errors:
+        blocks.append(Bullets("Errors (these runs were not analysed)", errors, "error"))
+    if warnings:
+        blocks.append(Bullets("Warnings", warnings, "warning"))
+    free_notes = [f"{run_labels[p]}: {columns['notes'][p]}" for p in positions
+                  if columns["notes"] is not None and columns["notes"][p]]
+    if free_notes:
+        blocks.append(Bullets("Notes in the file", free_notes, "note"))
+    if candidates:
+        blocks.append(_safety_block(_safety_candidates(candidates[:top]), library_hazards,
+                                    methods))
+    else:
+        blocks.append(Bullets("Safety", [], "safety", SAFETY_FOOTNOTE))
+    blocks.append(Signature())
+    return Page(title, "", blocks, key=str(ident) if kind == "sample" else runs[0])
+
+
+def _library_hazards(result) -> dict:
+    if result.ranking is None:
+        return {}
+    library = result.ranking.library
+    return {name: list(hazards) for name, hazards in
+            zip(library["name"], library["ghs_hazards"], strict=True)}
+
+
+def identify_report(result, *, top=5, title="Gas identification report") -> Report:
+    """Build the page model of an identification: a page per sample, or per run without one.
+
+    Parameters
+    ----------
+    result : Identification
+        From :func:`molid.identify.identify`.
+    top : int
+        How many ranked candidates each page lists.
+    title : str
+        The report title printed on every page.
+
+    Returns
+    -------
+    Report
+        Pages in the order the samples and runs first appear in the file.
+    """
+    table = result.table
+    run_ids = table.text["run"].to_numpy(dtype=object)
+    run_labels = [run if run is not None else f"row {table.row_numbers[k]}"
+                  for k, run in enumerate(run_ids)]
+    columns = {"operator": None, "operator_label": "Operator",
+               "date": _free_column(table.raw, _DATE_HEADERS),
+               "notes": _free_column(table.raw, _NOTE_HEADERS)}
+    for header in _OPERATOR_HEADERS:
+        cells = _free_column(table.raw, (header,))
+        if cells is not None:
+            columns["operator"] = cells
+            columns["operator_label"] = "Student" if header == "student" else "Operator"
+            break
+    hazards = _library_hazards(result)
+    pages = [_page_for(result, key, positions, run_labels, columns, top, hazards)
+             for key, positions in _groups(result)]
+    return Report(title, table.source or "data", pages)

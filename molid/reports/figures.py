@@ -1,0 +1,136 @@
+"""Plots of a report page: the molar-mass axis with the result and the nearby candidates.
+
+Figures are built with matplotlib's object API (no pyplot state, so many pages can
+be drawn in one process) and saved as SVG with text kept as text, which both the
+PDF writer (fpdf2 draws SVG as vector paths) and the HTML writer embed. User
+text in a figure is never parsed as mathtext.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+
+__all__ = ["VERDICT_COLOURS", "axis_figure", "figure_svg", "figure_png", "svg_for_pdf",
+           "style_context"]
+
+#: Colour of each verdict, shared with the tables (colour-blind-safe diverging palette).
+VERDICT_COLOURS = {
+    "consistent": "#1b7837",
+    "marginal": "#c46200",
+    "excluded": "#b2182b",
+    "condenses": "#6f6f6f",
+}
+_BAND = "#d9d9d9"
+_MM = 1 / 25.4  # inch per millimetre
+
+_STYLE = {
+    "svg.fonttype": "none",
+    "text.parse_math": False,
+    "font.family": "DejaVu Sans",
+    "font.size": 7.0,
+    "axes.titlesize": 7.0,
+    "axes.labelsize": 7.0,
+    "xtick.labelsize": 6.5,
+    "ytick.labelsize": 6.5,
+    "axes.linewidth": 0.6,
+    "xtick.major.width": 0.6,
+    "ytick.major.width": 0.6,
+    "svg.hashsalt": "molid",
+}
+
+
+def style_context():
+    """Return a matplotlib rc context with the report's style (text as text, no mathtext)."""
+    import matplotlib
+
+    return matplotlib.rc_context(_STYLE)
+
+
+def axis_figure(value, expanded, points, width=90.0, height=46.0):
+    """Draw the molar-mass axis of a result: its interval and the nearby candidates.
+
+    Parameters
+    ----------
+    value, expanded : float
+        The result's ideal-gas molar mass and expanded uncertainty [g/mol].
+    points : list of tuple
+        ``(name, molar_mass, measured, expanded, verdict, is_label)`` per candidate
+        to draw: its molar mass, the run's value if the gas is that candidate and the
+        expanded uncertainty of that value [g/mol].
+    width, height : float
+        Figure size [mm].
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    from matplotlib.figure import Figure
+
+    longest = max((len(point[0]) + (8 if point[5] else 0) for point in points), default=8)
+    left = min(0.45, 0.06 + 0.0125 * longest * 90.0 / width)
+    with style_context():
+        figure = Figure(figsize=(width * _MM, height * _MM))
+        axes = figure.add_axes((left, 0.25, 0.97 - left, 0.62))
+        _axis_axes(axes, value, expanded, points)
+    return figure
+
+
+def _axis_axes(axes, value, expanded, points):
+    axes.axvspan(value - expanded, value + expanded, color=_BAND, zorder=0, lw=0)
+    axes.axvline(value, color="#555555", lw=0.8, zorder=1)
+    lows, highs = [value - expanded], [value + expanded]
+    labels = []
+    for row, (name, molar_mass, measured, spread, verdict, is_label) in enumerate(points):
+        colour = VERDICT_COLOURS.get(verdict, "#333333")
+        axes.errorbar([measured], [row], xerr=[spread], fmt="o", color=colour, ms=3.2,
+                      elinewidth=1.0, capsize=2, zorder=3)
+        axes.plot([molar_mass], [row], marker="D", ms=4.2, mfc="none", mec="black", mew=0.9,
+                  ls="none", zorder=4)
+        lows += [molar_mass, measured - spread]
+        highs += [molar_mass, measured + spread]
+        labels.append(f"{name} (label)" if is_label else name)
+    low, high = min(lows), max(highs)
+    pad = 0.08 * (high - low) or 0.01 * value
+    axes.set_xlim(low - pad, high + pad)
+    axes.set_ylim(-0.7, max(len(points), 1) - 0.3)
+    axes.set_yticks(list(range(len(points))), labels)
+    axes.set_xlabel("molar mass [g/mol]")
+    axes.set_title("◇ candidate's M  ·  ● value if it is that gas, ±U  ·  grey: result, ±U",
+                   loc="left", fontsize=5.8)
+    axes.grid(axis="x", color="#eeeeee", lw=0.5)
+    axes.spines[["top", "right"]].set_visible(False)
+    axes.ticklabel_format(axis="x", useOffset=False)
+
+
+def figure_svg(figure) -> bytes:
+    """Save a figure as SVG (text as text, no timestamp: same input, same bytes)."""
+    buffer = io.BytesIO()
+    with style_context():
+        figure.savefig(buffer, format="svg",
+                       metadata={"Date": None, "Creator": None, "Format": None, "Type": None})
+    return buffer.getvalue()
+
+
+def figure_png(figure, dpi=200) -> bytes:
+    """Save a figure as PNG (for the rare figure fpdf2's SVG reader cannot draw)."""
+    buffer = io.BytesIO()
+    with style_context():
+        figure.savefig(buffer, format="png", dpi=dpi)
+    return buffer.getvalue()
+
+
+_FONT_SIZE = re.compile(rb"(font-size: ?)([0-9.]+)px")
+
+
+def svg_for_pdf(svg: bytes) -> bytes:
+    """Adapt matplotlib's SVG to fpdf2's reader.
+
+    matplotlib writes font sizes in ``px`` meaning user units of a viewBox measured
+    in points; fpdf2 converts ``px`` at 0.75 pt, which would shrink the text by a
+    quarter. Writing the same number in ``pt`` keeps the size matplotlib laid out.
+    Text without a fill colour is given black (SVG's default), which fpdf2 would
+    otherwise take from the page's current fill colour.
+    """
+    svg = _FONT_SIZE.sub(rb"\1\2pt", svg)
+    return svg.replace(b'<text style="', b'<text style="fill: #000000; ')
