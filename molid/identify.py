@@ -165,17 +165,34 @@ def _sample_results(table: RunTable, propagation, errors):
     shared = {name: np.where(flags[name], contributions[name], 0.0) for name in flags}
     u = propagation.standard_uncertainty
     samples = combine_replicates(sample, propagation.value, u, shared, ok & has_sample)
-    sample_runs: dict = {}
-    sample_warnings: dict = {}
-    for index in np.flatnonzero(has_sample):
-        sample_runs.setdefault(sample[index], [])
-        sample_warnings.setdefault(sample[index], [])
-        if ok[index]:
-            sample_runs[sample[index]].append(runs[index])
-        else:
-            sample_warnings[sample[index]].append(
-                f"run {runs[index]} (row {table.row_numbers[index]}) left out: it has an error"
-            )
+    # Group once; everything per sample below is a lookup, not a scan of all runs.
+    codes, names = pd.factorize(pd.Series(sample[has_sample], dtype=object))
+    sample_runs = {name: [] for name in names}
+    sample_warnings: dict = {name: [] for name in names}
+    good = ok[has_sample]
+    good_codes = codes[good]
+    order = np.argsort(good_codes, kind="stable")
+    boundaries = np.flatnonzero(np.diff(good_codes[order])) + 1
+    run_groups = np.split(runs[has_sample][good][order], boundaries)
+    code_groups = np.split(good_codes[order], boundaries)
+    for members, member_codes in zip(run_groups, code_groups):
+        if len(members):
+            sample_runs[names[member_codes[0]]] = members.tolist()
+    for index in np.flatnonzero(has_sample & ~ok):
+        sample_warnings[sample[index]].append(
+            f"run {runs[index]} (row {table.row_numbers[index]}) left out: it has an error"
+        )
+    # Which shared effects matter (over 1 % of a run's variance) in each sample.
+    in_sample = ok & has_sample
+    matters = pd.DataFrame({"sample": sample[in_sample]})
+    variance = u[in_sample] ** 2
+    for name in flags:
+        matters[f"all_{name}"] = flags[name][in_sample]
+        matters[f"big_{name}"] = contributions[name][in_sample] ** 2 > 0.01 * variance
+    summary = matters.groupby("sample", sort=False).agg(
+        {column: ("all" if column.startswith("all_") else "any")
+         for column in matters.columns if column != "sample"}
+    ).to_dict("index") if len(matters) else None
     for row in samples.itertuples(index=False):
         notes = sample_warnings[row.sample]
         if row.n > 1 and row.widened:
@@ -194,18 +211,14 @@ def _sample_results(table: RunTable, propagation, errors):
                     "the runs disagree strongly: look for a run with a mistake before trusting "
                     "the combined value"
                 )
-        members = (sample == row.sample) & ok
-        variance = u[members] ** 2
-        shared_names = [
-            INPUT_LABELS[name] for name in flags
-            if flags[name][members].all()
-            # only effects big enough to matter: over 1 % of a run's variance
-            and (contributions[name][members] ** 2 > 0.01 * variance).any()
-        ]
-        if row.n > 1 and shared_names:
-            notes.append(
-                "common to all runs, so not reduced by averaging: " + ", ".join(shared_names)
-            )
+        if row.n > 1 and summary is not None:
+            flags_here = summary[row.sample]
+            shared_names = [INPUT_LABELS[name] for name in flags
+                            if flags_here[f"all_{name}"] and flags_here[f"big_{name}"]]
+            if shared_names:
+                notes.append(
+                    "common to all runs, so not reduced by averaging: " + ", ".join(shared_names)
+                )
     empty = [name for name, members in sample_runs.items() if not members]
     for name in empty:
         sample_warnings[name].append("no run of this sample could be analysed")

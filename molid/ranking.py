@@ -34,8 +34,10 @@ from molid.realgas import (
     second_virial,
     vapour_pressure_ambrose_walton,
     vapour_pressure_relative_uncertainty,
+    virial_truncation_uncertainty,
     virial_uncertainty,
 )
+from molid.water import saturation_pressure_water
 
 __all__ = [
     "VERDICTS",
@@ -77,66 +79,80 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
     dict of numpy.ndarray, each shape (n, c)
         ``Z``, ``measured`` [kg/mol], ``u_measured`` [kg/mol] (without the
         candidate's own molar-mass uncertainty), ``u_model`` (the model term's
-        contribution, kg/mol), ``z``, ``saturation_pressure`` [Pa] and
-        ``condenses`` (bool), ``near_saturation`` (bool).
+        contribution, kg/mol), ``u_total``, ``z``, ``saturation_pressure`` [Pa],
+        ``condenses`` and ``near_saturation`` (bool).
 
     Notes
     -----
-    With :math:`Z = 1 + Bp/(RT)`, the sensitivities of :math:`MZ` are
-    :math:`Z\\,\\partial M/\\partial x_i` for every input, plus
-    :math:`M\\,\\partial Z/\\partial T = M\\,\\frac{p}{RT}(B' - B/T)` for temperature
-    and :math:`M\\,\\partial Z/\\partial p = M B/(RT)` for pressure. The model
-    term is :math:`M\\,u(B)\\,p/(RT)`.
+    The virial equation truncated after B in its density (Leiden) form,
+    solved for Z at the measured pressure:
+
+    .. math:: Z = \\tfrac{1}{2}\\left(1 + \\sqrt{1 + 4x}\\right), \\qquad x = \\frac{Bp}{RT},
+
+    which leaves a smaller truncation error than the pressure form
+    :math:`Z = 1 + x` (Prausnitz et al. 1999, ch. 5). The sensitivities of
+    :math:`MZ` are :math:`Z\\,\\partial M/\\partial x_i` for every input, plus
+    :math:`M\\,\\partial Z/\\partial T` for temperature and
+    :math:`M\\,\\partial Z/\\partial p` for pressure; the model term combines
+    u(B) from the correlation with the truncation term of
+    :func:`molid.realgas.virial_truncation_uncertainty`.
+
+    References
+    ----------
+    J. M. Prausnitz, R. N. Lichtenthaler, E. Gomes de Azevedo, *Molecular
+    Thermodynamics of Fluid-Phase Equilibria*, 3rd ed., Prentice Hall (1999), ch. 5.
+    JCGM 100:2008 (GUM), 5.1.2.
     """
     has = library["has_critical_data"].to_numpy(dtype=bool)
-    column = {name: library[name].to_numpy() for name in (
+    column = {name: library[name].to_numpy(dtype=float) for name in (
         "critical_temperature", "critical_pressure", "acentric_factor", "dipole_moment",
         "molar_mass", "u_molar_mass")}
     classes = library["polar_class"].fillna("nonpolar").to_numpy(dtype=object)
     classes = np.where(has, classes, "nonpolar")
     hill = library["hill"].fillna("").to_numpy(dtype=object)
     # Candidates without critical data get harmless stand-ins, masked to ideal gas below.
-    safe = {
-        "critical_temperature": np.where(has, column["critical_temperature"], 100.0),
-        "critical_pressure": np.where(has, column["critical_pressure"], 1e6),
-        "acentric_factor": np.where(has, column["acentric_factor"], 0.0),
-        "dipole_moment": np.nan_to_num(column["dipole_moment"].astype(float)),
-    }
+    critical_temperature = np.where(has, column["critical_temperature"], 100.0)
+    critical_pressure = np.where(has, column["critical_pressure"], 1e6)
+    acentric = np.where(has, column["acentric_factor"], 0.0)
+    dipole = np.nan_to_num(column["dipole_moment"])
     T = np.asarray(temperature, dtype=float)[:, None]
     p = np.asarray(pressure, dtype=float)[:, None]
     M = np.asarray(molar_mass, dtype=float)[:, None]
     with np.errstate(all="ignore"):
-        B, dB_dT = second_virial(
-            T, safe["critical_temperature"], safe["critical_pressure"], safe["acentric_factor"],
-            safe["dipole_moment"], classes, column["molar_mass"], hill, return_derivative=True,
-        )
+        B, dB_dT = second_virial(T, critical_temperature, critical_pressure, acentric, dipole,
+                                 classes, column["molar_mass"], hill, return_derivative=True)
         B = np.where(has, B, 0.0)
         dB_dT = np.where(has, dB_dT, 0.0)
         RT = GAS_CONSTANT * T
-        Z = 1.0 + B * p / RT
-        dZ_dT = p / RT * (dB_dT - B / T)
-        dZ_dp = B / RT
+        x = B * (p / RT)
+        root = np.sqrt(1.0 + 4.0 * x)
+        Z = 0.5 * (1.0 + root)
+        dZ_dx = 1.0 / root
+        dZ_dT = dZ_dx * (p / RT) * (dB_dT - B / T)
+        dZ_dp = dZ_dx * B / RT
         measured = M * Z
-        variance = np.zeros_like(measured)
-        for name, sensitivity in sensitivities.items():
-            c = Z * sensitivity[:, None]
-            if name == "temperature":
-                c = c + M * dZ_dT
-            elif name == "pressure":
-                c = c + M * dZ_dp
-            variance = variance + (c * uncertainties[name][:, None]) ** 2
-        u_model = M * np.where(has, virial_uncertainty(classes, B), 0.0) * p / RT
+        # Z changes only the temperature and pressure sensitivities; the rest scale with Z.
+        u_ideal_square = sum((sensitivities[name] * uncertainties[name]) ** 2
+                             for name in sensitivities)[:, None]
+        c_T = (sensitivities["temperature"] * uncertainties["temperature"])[:, None]
+        c_p = (sensitivities["pressure"] * uncertainties["pressure"])[:, None]
+        u_T = uncertainties["temperature"][:, None]
+        u_p = uncertainties["pressure"][:, None]
+        variance = (Z * Z * np.maximum(u_ideal_square - c_T**2 - c_p**2, 0.0)
+                    + (Z * c_T + M * dZ_dT * u_T) ** 2 + (Z * c_p + M * dZ_dp * u_p) ** 2)
+        u_B = np.where(has, virial_uncertainty(classes, B), 0.0)
+        u_truncation = np.where(has, virial_truncation_uncertainty(classes, T, p, B,
+                                                                   form="density"), 0.0)
+        u_model = M * np.sqrt((dZ_dx * u_B * p / RT) ** 2 + u_truncation**2)
         u_measured = np.sqrt(variance + u_model**2)
-        u_total = np.sqrt(u_measured**2 + column["u_molar_mass"].astype(float) ** 2)
+        u_total = np.sqrt(u_measured**2 + column["u_molar_mass"] ** 2)
         z = (measured - column["molar_mass"]) / u_total
-        saturation = vapour_pressure_ambrose_walton(
-            T, safe["critical_temperature"], safe["critical_pressure"], safe["acentric_factor"]
-        )
-        saturation = np.where(has, saturation, np.inf)
-        u_relative_saturation = np.where(has, vapour_pressure_relative_uncertainty(classes), 0.0)
+        saturation, u_relative_saturation = _saturation(T, p, has, hill, classes,
+                                                        critical_temperature, critical_pressure,
+                                                        acentric)
         # Condenses only when even the high end of the estimate is below p.
         condenses = saturation * (1.0 + 2.0 * u_relative_saturation) < p
-        near = ~condenses & (saturation < p * 2.0)
+        near = ~condenses & (saturation < p * NEAR_SATURATION)
     return {
         "Z": Z,
         "measured": measured,
@@ -148,6 +164,52 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         "condenses": condenses,
         "near_saturation": near,
     }
+
+
+#: A candidate whose vapour pressure is within this factor above the gas pressure
+#: gets a note: close to condensing, its real-gas correction is less certain.
+NEAR_SATURATION = 1.25
+
+
+def _saturation(T, p, has, hill, classes, critical_temperature, critical_pressure, acentric):
+    """Vapour pressure of each candidate at each run's T [Pa], and its relative uncertainty.
+
+    The vapour pressure rises with temperature, so a candidate whose estimate at
+    the coldest run is already far above the highest pressure cannot condense in
+    any run; only the others are evaluated run by run. Water uses its own
+    saturation equation (Wagner and Pruss 2002) rather than the estimate.
+    """
+    shape = np.broadcast_shapes(T.shape, critical_temperature.shape)
+    saturation = np.full(shape, np.inf)
+    u_relative = np.zeros(shape)
+    if T.size == 0:
+        return saturation, u_relative
+    coldest, highest = float(np.nanmin(T)), float(np.nanmax(p))
+    estimate_cold = vapour_pressure_ambrose_walton(coldest, critical_temperature,
+                                                   critical_pressure, acentric)
+    water = hill == "H2O"
+    if water.any():
+        estimate_cold = np.where(water, saturation_pressure_water(min(coldest, 647.0)),
+                                 estimate_cold)
+    relative = vapour_pressure_relative_uncertainty(classes)
+    needed = has & (estimate_cold * (1.0 - 3.0 * relative) < highest * NEAR_SATURATION * 1.01)
+    columns = np.flatnonzero(needed)
+    if len(columns):
+        values = vapour_pressure_ambrose_walton(T, critical_temperature[columns],
+                                                critical_pressure[columns], acentric[columns])
+        water_columns = water[columns]
+        if water_columns.any():
+            values[:, water_columns] = saturation_pressure_water(
+                np.broadcast_to(T, (T.shape[0], int(water_columns.sum()))))
+        saturation[:, columns] = values
+        u_relative[:, columns] = np.where(water_columns, WATER_SATURATION_RELATIVE_UNCERTAINTY,
+                                          relative[columns])
+    return saturation, u_relative
+
+
+#: Relative standard uncertainty of the Wagner–Pruss saturation pressure (about 1e-4
+#: of IAPWS-95 over 0–100 °C, as the water tests measure), with a margin.
+WATER_SATURATION_RELATIVE_UNCERTAINTY = 2e-4
 
 
 def verdicts(z, condenses) -> np.ndarray:
@@ -222,8 +284,9 @@ class Ranking:
                                 "gas pressure: it would condense")
             elif block["near_saturation"][k, j]:
                 item["note"] = (f"close to its vapour pressure (about "
-                                f"{block['saturation_pressure'][k, j] / 1000:.3g} kPa): partial "
-                                "condensation possible")
+                                f"{block['saturation_pressure'][k, j] / 1000:.3g} kPa): it could "
+                                "partly condense on cool surfaces, and its real-gas correction "
+                                "is less certain")
             items.append(item)
         return items
 

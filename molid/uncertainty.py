@@ -128,7 +128,8 @@ def complex_step_jacobian(model, values: dict, static: dict | None = None, outpu
     steps = {}
     batched = {}
     for row, name in enumerate(names):
-        scale = np.where(base[name] == 0.0, 1.0, np.abs(base[name]))
+        # the step is relative to the value, but never so small that it underflows
+        scale = np.where(np.abs(base[name]) < 1e-100, 1.0, np.abs(base[name]))
         steps[name] = _STEP * scale
         perturbation = np.zeros((len(names),) + shape, dtype=complex)
         perturbation[row] = 1j * steps[name]
