@@ -49,6 +49,7 @@ __all__ = [
     "OUTLIER_LIMIT",
     "OUTLIER_MINIMUM",
     "GRADE_COLUMNS",
+    "PLOT_FILES",
     "KeyFileError",
     "Grading",
     "read_key",
@@ -73,6 +74,8 @@ OUTLIER_LIMIT = 3.5
 #: one or two gaps and any uneven spacing looks extreme.
 OUTLIER_MINIMUM = 5
 _G = 1e3  # kg/mol -> g/mol
+#: The files ``--plots`` writes.
+PLOT_FILES = ("percent_error.png", "percent_error.svg", "intervals.png", "intervals.svg")
 _READINGS = ("mass_tare", "mass_filled", "volume", "temperature", "pressure")
 _KEY_IDENTITY_COLUMNS = ("expected", "identity", "gas", "answer", "substance", "formula", "name")
 
@@ -861,6 +864,9 @@ def run_grade_command(args) -> int:
             raise OutputRefused(f"{plots}: is a file; --plots needs a folder")
         if not plots.parent.exists():
             raise OutputRefused(f"{plots}: the folder {plots.parent} does not exist")
+        existing = [plots / name for name in PLOT_FILES if (plots / name).exists()]
+        if existing and not args.force:
+            raise OutputRefused(f"{existing[0]}: already exists; use --force to replace the plots")
     library = load_library(args.library, mode="replace" if args.replace_library else "merge",
                            extra_candidates=tuple(args.candidate))
     grading = grade(args.file, key=args.key, rubric=args.rubric, profile=args.profile,

@@ -101,6 +101,8 @@ def test_fresh_section_writes_grades_and_plots(tmp_path):
     for name in ("percent_error", "intervals"):
         assert (plots / f"{name}.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
         assert b"<svg" in (plots / f"{name}.svg").read_bytes()[:500]
+    # plots already there: replaced only with --force
+    assert main(["grade", str(path), "--plots", str(plots)]) == 2
 
 
 # -- rubric ---------------------------------------------------------------------------------
