@@ -265,6 +265,20 @@ def _free_column(raw, names):
     return None
 
 
+_ALIASES = {"rh": "humidity", "relative_humidity": "humidity"}
+
+
+def _typed_columns(raw) -> dict:
+    """Map each measured input to the cells as the user typed them (their digits kept)."""
+    found = {}
+    for column in raw.columns:
+        name = _normalise_header(column)
+        name = _ALIASES.get(name, name)
+        if name in _SHORT and name not in found:
+            found[name] = raw[column].astype(str).str.strip().to_numpy(dtype=object)
+    return found
+
+
 def _joined(cells, positions) -> str:
     if cells is None:
         return ""
@@ -367,6 +381,7 @@ def _inputs_table(result, positions, run_labels, notes=()) -> Table:
     widths = [16.0] + ([22.0] if show_method else [])
     display = {}
     same_u = {}
+    typed = _typed_columns(table.raw)
     for name in names:
         if name == "wet":
             columns.append("wet")
@@ -390,7 +405,8 @@ def _inputs_table(result, positions, run_labels, notes=()) -> Table:
                 row.append("yes" if table.wet[position] else "no")
                 continue
             values, u = display[name]
-            cell = format_number(values[k])
+            written = typed[name][position] if name in typed else ""
+            cell = written or format_number(values[k])
             if not same_u[name] and np.isfinite(u[k]):
                 cell += f" ({u[k]:.2g})"
             row.append(cell)
@@ -570,7 +586,8 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
         decimals = _decimals(expanded)
         lines.append(f"Molar mass (ideal gas): {format_with_uncertainty(value, expanded)} g/mol"
                      f"  (U, k = 2, about 95 %)")
-        lines.append(f"Interval {value - expanded:.{decimals}f} to {value + expanded:.{decimals}f}"
+        shown, half = round(value, decimals), round(expanded, decimals)
+        lines.append(f"Interval {shown - half:.{decimals}f} to {shown + half:.{decimals}f}"
                      f" g/mol; standard uncertainty u = {u:.2g} g/mol; {origin}.")
         if candidates:
             best = candidates[0]
@@ -608,7 +625,7 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
 
     warnings = []
     if kind == "sample":
-        warnings += list(result.sample_warnings.get(ident, []))
+        warnings += [item[0].upper() + item[1:] for item in result.sample_warnings.get(ident, [])]
     for position in positions:
         for message in result.warnings[position]:
             warnings.append(f"{run_labels[position]}: {message}")

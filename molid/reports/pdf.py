@@ -122,19 +122,80 @@ def _room(document) -> float:
     return document.page_break_trigger - document.get_y()
 
 
+def _measurer(document):
+    """Return a string-width function for the current font, cached across pages."""
+    cache = document.__dict__.setdefault("_molid_widths", {})
+    key = (document.font_family, document.font_style, document.font_size_pt)
+    widths = cache.setdefault(key, {})
+    measure = document.get_string_width
+
+    def width(text):
+        value = widths.get(text)
+        if value is None:
+            value = widths[text] = measure(text)
+        return value
+
+    return width
+
+
+def _wrap(document, text, width) -> list:
+    """Break text into lines that fit a width [mm] in the current font.
+
+    Word widths are measured once and added up, so the cost grows linearly with
+    the text (fpdf2's own line breaker re-measures each line as it grows).
+    """
+    measure = _measurer(document)
+    space = measure(" ")
+    lines = []
+    for paragraph in str(text).split("\n"):
+        current, used = "", 0.0
+        for word in paragraph.split(" "):
+            size = measure(word)
+            while size > width and len(word) > 1:  # a word longer than the line: cut it
+                cut = max(1, int(len(word) * width / size))
+                while cut > 1 and measure(word[:cut]) > width:
+                    cut -= 1
+                if current:
+                    lines.append(current)
+                lines.append(word[:cut])
+                current, used = "", 0.0
+                word = word[cut:]
+                size = measure(word)
+            if not current:
+                current, used = word, size
+            elif used + space + size <= width:
+                current, used = f"{current} {word}", used + space + size
+            else:
+                lines.append(current)
+                current, used = word, size
+        lines.append(current)
+    return lines
+
+
+def _text(document, text, width, height, align="L", x=None):
+    """Draw wrapped text line by line from the current position; return the line count."""
+    x = document.get_x() if x is None else x
+    lines = _wrap(document, text, width)
+    for line in lines:
+        document.set_x(x)
+        document.cell(width, height, line, align=align, new_x="LEFT", new_y="NEXT")
+    return len(lines)
+
+
 def _page(document, page, figure_svg, svg_for_pdf, figure_png):
     document.set_font(_FONT, "B", 13)
-    document.multi_cell(TEXT_WIDTH, 6.5, page.title, new_x="LMARGIN", new_y="NEXT", align="L")
+    _text(document, page.title, TEXT_WIDTH, 6.5, x=document.l_margin)
     if page.subtitle:
         document.set_font(_FONT, "", 7.5)
         document.set_text_color(90, 90, 90)
-        document.multi_cell(TEXT_WIDTH, 4, page.subtitle, new_x="LMARGIN", new_y="NEXT", align="L")
+        _text(document, page.subtitle, TEXT_WIDTH, 4, x=document.l_margin)
         document.set_text_color(0, 0, 0)
     document.ln(1.5)
     for block in page.blocks:
         document.set_fill_color(255, 255, 255)
         document.set_draw_color(0, 0, 0)
         document.set_text_color(0, 0, 0)
+        document.set_line_width(0.2)
         if isinstance(block, Columns):
             _columns(document, block, figure_svg, svg_for_pdf, figure_png)
         elif isinstance(block, Fields):
@@ -142,13 +203,14 @@ def _page(document, page, figure_svg, svg_for_pdf, figure_png):
         elif isinstance(block, Highlight):
             _highlight(document, block)
         elif isinstance(block, Table):
-            _table(document, block)
+            _table(document, block, document.l_margin, TEXT_WIDTH)
         elif isinstance(block, Plot):
             _plot(document, block, figure_svg, svg_for_pdf, figure_png)
         elif isinstance(block, Bullets):
             _bullets(document, block)
         elif isinstance(block, Signature):
             _signature(document, block)
+        document.set_x(document.l_margin)
 
 
 def _fields(document, block):
@@ -164,155 +226,136 @@ def _fields(document, block):
             document.set_font(_FONT, "B", 8)
             document.cell(label_width, 4.2, label)
             document.set_font(_FONT, "", 8)
-            document.multi_cell(half - label_width - 2, 4.2, str(value), new_x="LMARGIN",
-                                new_y="NEXT", align="L")
+            _text(document, value, half - label_width - 2, 4.2, x=x + label_width)
             bottom = max(bottom, document.get_y())
         document.set_xy(document.l_margin, bottom)
     document.ln(1.5)
 
 
+def _highlight_font(document, k):
+    document.set_font(_FONT, "B" if k == 0 else "", 10 if k == 0 else 8)
+    return 4.8 if k == 0 else 4.0
+
+
 def _highlight(document, block):
-    lines = list(block.lines)
-    document.set_font(_FONT, "", 8)
-    line_count = 0
-    for k, line in enumerate(lines):
-        document.set_font(_FONT, "B" if k == 0 else "", 10 if k == 0 else 8)
-        line_count += len(document.multi_cell(TEXT_WIDTH - 6, 4.6 if k == 0 else 4, line,
-                                              dry_run=True, output="LINES", align="L"))
-    box = 3 + line_count * 4.3
+    inner = TEXT_WIDTH - 6
+    box = 3.0
+    for k, line in enumerate(block.lines):
+        box += _highlight_font(document, k) * len(_wrap(document, line, inner))
     if _room(document) < box:
         document.add_page()
     top = document.get_y()
     document.set_fill_color(232, 240, 250)
     document.set_draw_color(74, 119, 180)
     document.rect(document.l_margin, top, TEXT_WIDTH, box, style="DF")
-    document.set_xy(document.l_margin + 3, top + 1.5)
-    for k, line in enumerate(lines):
-        document.set_font(_FONT, "B" if k == 0 else "", 10 if k == 0 else 8)
-        document.set_x(document.l_margin + 3)
-        document.multi_cell(TEXT_WIDTH - 6, 4.6 if k == 0 else 4, line, new_x="LMARGIN",
-                            new_y="NEXT", align="L")
-    document.set_y(max(document.get_y(), top + box) + 2)
+    document.set_y(top + 1.5)
+    for k, line in enumerate(block.lines):
+        height = _highlight_font(document, k)
+        _text(document, line, inner, height, x=document.l_margin + 3)
+    document.set_y(top + box + 2)
 
 
-def _table(document, block):
-    from fpdf.fonts import FontFace
+def _row_heights(document, cells, widths, line_height, padding):
+    wrapped = [_wrap(document, cell, w - 2 * padding) for cell, w in
+               zip(cells, widths, strict=False)]
+    return wrapped, 0.8 + line_height * max((len(lines) for lines in wrapped), default=1)
 
-    if _room(document) < 16:
+
+def _grid(document, block, x, width, size=7.0, line_height=3.3):
+    """Draw a table's header and rows at x; long cells wrap, a full page repeats the header."""
+    scale = width / sum(block.widths)
+    widths = [w * scale for w in block.widths]
+    align = block.align or "L" * len(block.columns)
+    padding = 0.6
+    document.set_font(_FONT, "B", size - 0.6)
+    header, header_height = _row_heights(document, block.columns, widths, line_height - 0.4,
+                                         padding)
+
+    def draw_header():
+        top = document.get_y()
+        document.set_font(_FONT, "B", size - 0.6)
+        document.set_fill_color(230, 230, 230)
+        document.rect(x, top, width, header_height, style="F")
+        left = x
+        for w, lines, a in zip(widths, header, align, strict=False):
+            document.set_xy(left + padding, top + 0.4)
+            for line in lines:
+                document.set_x(left + padding)
+                document.cell(w - 2 * padding, line_height - 0.4, line,
+                              align="R" if a == "R" else "L", new_x="LEFT", new_y="NEXT")
+            left += w
+        document.set_y(top + header_height)
+
+    draw_header()
+    document.set_draw_color(190, 190, 190)
+    document.set_line_width(0.15)
+    for index, cells in enumerate(block.rows):
+        styles = block.styles[index] if block.styles else None
+        document.set_font(_FONT, "", size)
+        wrapped, height = _row_heights(document, cells, widths, line_height, padding)
+        if _room(document) < height:
+            document.add_page()
+            draw_header()
+        top = document.get_y()
+        left = x
+        for column, (w, lines, a) in enumerate(zip(widths, wrapped, align, strict=False)):
+            style = styles[column] if styles else None
+            if column == block.bars:
+                try:
+                    share = max(0.0, min(float(cells[column]), 100.0))
+                except ValueError:
+                    share = 0.0
+                bar = share / 100.0 * (w - 9.5)
+                if bar > 0.05:
+                    document.set_fill_color(74, 119, 180)
+                    document.rect(left + padding, top + 0.8, bar, line_height - 1.0, style="F")
+            colour = _STYLE_COLOURS.get(style)
+            document.set_font(_FONT, "B" if colour and style != "muted" else "", size)
+            if colour:
+                document.set_text_color(*colour)
+            document.set_xy(left + padding, top + 0.4)
+            for line in lines:
+                document.set_x(left + padding)
+                document.cell(w - 2 * padding, line_height, line, align="R" if a == "R" else "L",
+                              new_x="LEFT", new_y="NEXT")
+            document.set_text_color(0, 0, 0)
+            left += w
+        document.line(x, top + height, x + width, top + height)
+        document.set_y(top + height)
+    document.set_font(_FONT, "", size)
+
+
+def _table(document, block, x, width, size=7.0):
+    if _room(document) < 18:
         document.add_page()
     document.set_font(_FONT, "B", 8)
-    document.cell(TEXT_WIDTH, 4.5, block.title, new_x="LMARGIN", new_y="NEXT", align="L")
-    document.set_font(_FONT, "", 7)
-    total = sum(block.widths)
-    width = min(TEXT_WIDTH, total) if total > 100 else total
-    align = block.align or "L" * len(block.columns)
-    headings = FontFace(emphasis="BOLD", fill_color=(230, 230, 230))
-    document.set_draw_color(170, 170, 170)
-    document.set_line_width(0.15)
-    with document.table(col_widths=block.widths, width=width, align="LEFT",
-                        line_height=3.4, headings_style=headings, markdown=False,
-                        borders_layout="HORIZONTAL_LINES", padding=(0.6, 1.0),
-                        text_align=tuple("RIGHT" if a == "R" else "LEFT" for a in align)) as table:
-        row = table.row()
-        for name in block.columns:
-            row.cell(str(name))
-        for index, cells in enumerate(block.rows):
-            row = table.row()
-            styles = block.styles[index] if block.styles else None
-            for column, cell in enumerate(cells):
-                style = styles[column] if styles else None
-                if style in _STYLE_COLOURS:
-                    face = FontFace(color=_STYLE_COLOURS[style],
-                                    emphasis="BOLD" if style != "muted" else None)
-                    row.cell(str(cell), style=face)
-                else:
-                    row.cell(str(cell))
+    _text(document, block.title, width, 4.5, x=x)
+    _grid(document, block, x, width, size=size)
     if block.note:
-        document.set_font(_FONT, "I", 6.5)
+        document.set_font(_FONT, "I", 6.3)
         document.set_text_color(90, 90, 90)
-        document.multi_cell(TEXT_WIDTH, 3.2, block.note, new_x="LMARGIN", new_y="NEXT", align="L")
+        document.set_y(document.get_y() + 0.5)
+        _text(document, block.note, width, 3.0, x=x)
         document.set_text_color(0, 0, 0)
-    document.ln(2)
+    document.set_y(document.get_y() + 1.5)
 
 
 def _columns(document, block, figure_svg, svg_for_pdf, figure_png):
-    """Draw a bar table on the left and a plot on the right, top-aligned."""
+    """Draw a table on the left and a plot on the right, top-aligned."""
     needed = max(_compact_height(block.left), block.right.height)  # keep the pair together
     if _room(document) < needed + 2:
         document.add_page()
     top = document.get_y()
-    _compact_table(document, block.left, document.l_margin, block.split - 2)
+    _table(document, block.left, document.l_margin, block.split - 2, size=6.6)
     left_bottom = document.get_y()
     document.set_y(top)
     _plot(document, block.right, figure_svg, svg_for_pdf, figure_png,
           x=document.l_margin + block.split)
-    document.set_y(max(left_bottom, top + block.right.height) + 2)
+    document.set_y(max(left_bottom, top + block.right.height) + 1)
 
 
 def _compact_height(block) -> float:
-    return 4.5 + 4.2 + 3.6 * len(block.rows) + (7 if block.note else 0)
-
-
-def _fit(document, text, width) -> str:
-    """Shorten text with an ellipsis to fit a width [mm] in the current font."""
-    text = str(text)
-    if document.get_string_width(text) <= width:
-        return text
-    while text and document.get_string_width(text + "…") > width:
-        text = text[:-1]
-    return text + "…"
-
-
-def _compact_table(document, block, x, width):
-    """Draw a table of one-line rows; the ``bars`` column gets a bar beside its number."""
-    scale = width / sum(block.widths)
-    widths = [w * scale for w in block.widths]
-    align = block.align or "L" * len(block.columns)
-    document.set_xy(x, document.get_y())
-    document.set_font(_FONT, "B", 8)
-    document.cell(width, 4.5, _fit(document, block.title, width), new_x="LEFT", new_y="NEXT")
-    document.set_font(_FONT, "B", 6.2)
-    document.set_fill_color(230, 230, 230)
-    top = document.get_y()
-    header_lines = [document.multi_cell(w - 1, 2.8, str(name), dry_run=True, output="LINES",
-                                        align="L")
-                    for w, name in zip(widths, block.columns, strict=True)]
-    header = 1.2 + 2.8 * max(len(lines) for lines in header_lines)
-    document.rect(x, top, width, header, style="F")
-    left = x
-    for w, lines, a in zip(widths, header_lines, align, strict=False):
-        document.set_xy(left + 0.5, top + 0.6)
-        document.multi_cell(w - 1, 2.8, "\n".join(lines), align="R" if a == "R" else "L")
-        left += w
-    y = top + header
-    document.set_font(_FONT, "", 6.8)
-    document.set_draw_color(190, 190, 190)
-    document.set_line_width(0.15)
-    for cells in block.rows:
-        left = x
-        for column, (w, cell, a) in enumerate(zip(widths, cells, align, strict=False)):
-            if column == block.bars:
-                try:
-                    share = float(cell)
-                except ValueError:
-                    share = None
-                if share is not None:
-                    document.set_fill_color(74, 119, 180)
-                    bar = max(0.0, min(share, 100.0)) / 100.0 * (w - 9.5)
-                    if bar > 0.05:
-                        document.rect(left + 0.5, y + 0.7, bar, 2.2, style="F")
-            document.set_xy(left + 0.5, y)
-            document.cell(w - 1, 3.6, _fit(document, cell, w - 1), align="R" if a == "R" else "L")
-            left += w
-        y += 3.6
-        document.line(x, y, x + width, y)
-    document.set_xy(x, y + 0.6)
-    if block.note:
-        document.set_font(_FONT, "I", 6.2)
-        document.set_text_color(90, 90, 90)
-        document.multi_cell(width, 3.0, block.note, align="L", new_x="LEFT", new_y="NEXT")
-        document.set_text_color(0, 0, 0)
-    document.set_x(document.l_margin)
+    return 4.5 + 7.0 + 3.8 * len(block.rows) + (7 if block.note else 0)
 
 
 def _plot(document, block, figure_svg, svg_for_pdf, figure_png, x=None):
@@ -334,19 +377,18 @@ def _plot(document, block, figure_svg, svg_for_pdf, figure_png, x=None):
 def _bullets(document, block):
     if not block.items and not block.footnote:
         return
-    document.set_font(_FONT, "", 7.2)
     inner = TEXT_WIDTH - 8
-    lines = 1 + sum(len(document.multi_cell(inner, 3.3, item, dry_run=True, output="LINES"))
-                    for item in block.items)
-    if block.footnote:
-        lines += len(document.multi_cell(inner + 4, 3.3, block.footnote, dry_run=True,
-                                         output="LINES"))
-    box = 2.5 + lines * 3.3 + 1.5
+    line = 3.3
+    document.set_font(_FONT, "", 7.2)
+    wrapped = [_wrap(document, item, inner) for item in block.items]
+    document.set_font(_FONT, "B", 7.2)
+    footnote = _wrap(document, block.footnote, inner + 3) if block.footnote else []
+    box = 2.6 + 3.8 + line * (sum(len(lines) for lines in wrapped) + len(footnote))
     if _room(document) < min(box, 40):
         document.add_page()
     top = document.get_y()
     fits = _room(document) >= box
-    if fits:
+    if fits:  # a box that runs over a page break is drawn without its background
         document.set_fill_color(*_BOX[block.kind])
         document.set_draw_color(*_BOX_EDGE[block.kind])
         document.rect(document.l_margin, top, TEXT_WIDTH, box, style="F")
@@ -355,19 +397,20 @@ def _bullets(document, block):
         document.set_line_width(0.2)
     document.set_xy(document.l_margin + 2.5, top + 1.2)
     document.set_font(_FONT, "B", 8)
-    document.cell(inner, 3.8, block.title, new_x="LMARGIN", new_y="NEXT", align="L")
+    document.cell(inner, 3.8, block.title, new_x="LEFT", new_y="NEXT")
     document.set_font(_FONT, "", 7.2)
-    for item in block.items:
+    for lines in wrapped:
         document.set_x(document.l_margin + 2.5)
-        document.cell(3, 3.3, "•")
-        document.multi_cell(inner, 3.3, item, new_x="LMARGIN", new_y="NEXT", align="L")
-    if block.footnote:
-        document.set_font(_FONT, "B", 7.2)
+        document.cell(3, line, "•")
+        for text in lines:
+            document.set_x(document.l_margin + 5.5)
+            document.cell(inner, line, text, new_x="LEFT", new_y="NEXT")
+    document.set_font(_FONT, "B", 7.2)
+    for text in footnote:
         document.set_x(document.l_margin + 2.5)
-        document.multi_cell(inner + 4, 3.3, block.footnote, new_x="LMARGIN", new_y="NEXT",
-                            align="L")
+        document.cell(inner + 3, line, text, new_x="LEFT", new_y="NEXT")
     end = max(document.get_y(), top + box) if fits else document.get_y()
-    document.set_y(end + 1.5)
+    document.set_xy(document.l_margin, end + 1.5)
 
 
 def _signature(document, block):

@@ -1,0 +1,254 @@
+"""Printable reports: what lands on which PDF page, HTML escaping, paper sizes, speed."""
+
+import re
+import shutil
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from molid.cli import main
+from molid.export import format_value
+from molid.identify import identify
+
+pypdf = pytest.importorskip("pypdf")
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "sample_runs" / "qa_cylinders.csv"
+PROFILE = ROOT / "sample_runs" / "qa_lab_profile.toml"
+HEADER = "run,sample,method,mass_tare,mass_filled,volume,temperature,pressure,humidity,operator"
+ROW = "{run},{sample},evacuated-bulb,147.3839,{filled},500.12,21.72,100.39,41,{operator}"
+HOSTILE = "<script>alert(1)</script>"
+
+
+@pytest.fixture(scope="module")
+def demo_pdf(tmp_path_factory):
+    """Make the demo QA report as PDF; return it with the identification it was made from."""
+    out = tmp_path_factory.mktemp("report") / "qa.pdf"
+    assert main(["report", str(DEMO), "--profile", str(PROFILE), "-o", str(out)]) == 0
+    result = identify(DEMO, profile=PROFILE)
+    return out, result
+
+
+def _pages(path):
+    return [page.extract_text() for page in pypdf.PdfReader(str(path)).pages]
+
+
+def _flat(text):
+    """Page text with line breaks folded into spaces (tables wrap long cells)."""
+    return re.sub(r"\s+", " ", text)
+
+
+def test_one_page_per_sample_in_file_order(demo_pdf):
+    """The demo file's seven samples give seven pages, in the order they appear in the file."""
+    path, result = demo_pdf
+    pages = _pages(path)
+    samples = list(result.sample_runs)
+    assert len(pages) == len(samples) == 7
+    for text, sample in zip(pages, samples, strict=True):
+        assert f"Sample {sample}" in text
+
+
+def test_run_ids_only_on_their_samples_page(demo_pdf):
+    """Every run id is printed on its sample's page and on no other page."""
+    path, result = demo_pdf
+    pages = _pages(path)
+    for number, members in enumerate(result.sample_runs.values()):
+        for run in members:
+            holders = [k for k, text in enumerate(pages) if re.search(rf"\b{run}\b", text)]
+            assert holders == [number], run
+
+
+def test_molar_masses_and_top_candidate_on_each_page(demo_pdf):
+    """Each page shows its sample's combined M ± U, each run's M ± U and the top-ranked name."""
+    path, result = demo_pdf
+    pages = [_flat(text) for text in _pages(path)]
+    frame = result.samples.set_index("sample")
+    run_ids = list(result.table.text["run"])
+    for text, (sample, members) in zip(pages, result.sample_runs.items(), strict=True):
+        row = frame.loc[sample]
+        assert format_value(row["value"] * 1e3, 2 * row["u"] * 1e3) in text
+        for run in members:
+            k = run_ids.index(run)
+            assert format_value(result.molar_mass[k] * 1e3, result.U[k] * 1e3) in text
+        best = result.ranking.sample_candidates(sample, 1)[0]["name"]
+        assert f"Best candidate: {best}" in text
+
+
+def test_physics_on_the_page_is_the_trade_expectation(demo_pdf):
+    """The argon cylinder's page names argon first, at its standard atomic weight 39.95 g/mol.
+
+    Source: IUPAC 2021 abridged standard atomic weight of argon, 39.95 (from memory).
+    """
+    path, _ = demo_pdf
+    first = _flat(_pages(path)[0])
+    assert "Best candidate: argon (Ar), consistent" in first
+    assert "(M = 39.950 g/mol)" in first
+
+
+def test_label_check_and_separation_notes_printed(demo_pdf):
+    """A wrong label is flagged on its page; the CO2/N2O page says what would separate them."""
+    path, result = demo_pdf
+    pages = [_flat(text) for text in _pages(path)]
+    names = list(result.sample_runs)
+    isobutane = pages[names.index("CYL-2234")]
+    assert "Label 'isobutane' (isobutane): EXCLUDED" in isobutane
+    carbon_dioxide = pages[names.index("CYL-2232")]
+    assert "separating them needs u(M) below" in carbon_dioxide
+    helium = pages[names.index("CYL-2236")]
+    assert "Cannot be told apart by this run: deuterium, helium" in helium
+
+
+def test_safety_box_lists_ghs_classes_and_sds_note(demo_pdf):
+    """Safety cautions carry the library's GHS classes and the pointer to codes and the SDS.
+
+    Argon is a compressed gas and a simple asphyxiant (GHS 'Press. Gas', common practice of
+    gas SDSs); the evacuated bulb's implosion caution applies to bulb methods.
+    """
+    path, result = demo_pdf
+    text = _flat(_pages(path)[0])
+    library = result.ranking.library.set_index("name")
+    for hazard in library.loc["argon", "ghs_hazards"]:
+        assert hazard in text
+    assert "Simple asphyxiant" in text and "implode" in text
+    assert "follow local codes, the site's safety rules" in text.lower()
+    assert "safety data sheet (SDS)" in text
+    assert "Analysed by:" in text and "Checked by:" in text
+
+
+def test_header_fields_from_free_columns(demo_pdf):
+    """Operator and date come from the file's own columns."""
+    path, _ = demo_pdf
+    text = _flat(_pages(path)[0])
+    assert "D. Okonkwo-Hale, R. Lindqvist" in text and "2026-11-09" in text
+
+
+@pytest.mark.parametrize(("paper", "size"), [("a4", (595.28, 841.89)), ("letter", (612.0, 792.0))])
+def test_paper_sizes(tmp_path, paper, size):
+    """Page size in PDF points (1/72 in) matches ISO 216 A4 and ANSI Letter, with margins.
+
+    A4 is 210 mm × 297 mm (ISO 216), Letter 8.5 in × 11 in (ANSI/ASME Y14.1); the text
+    block (180 mm wide) fits inside both with at least 15 mm side margins.
+    """
+    out = tmp_path / "r.pdf"
+    assert main(["report", str(DEMO), "--profile", str(PROFILE), "-o", str(out),
+                 "--paper", paper]) == 0
+    box = pypdf.PdfReader(str(out)).pages[0].mediabox
+    assert float(box.width) == pytest.approx(size[0], abs=0.05)
+    assert float(box.height) == pytest.approx(size[1], abs=0.05)
+    margin_mm = (float(box.width) / 72 * 25.4 - 180) / 2
+    assert margin_mm >= 14.9
+
+
+def _write(path, rows):
+    path.write_text("\n".join([HEADER, *rows]) + "\n", encoding="utf-8")
+    return path
+
+
+def test_hostile_run_id_is_escaped_in_html(tmp_path):
+    """A run id holding markup appears only escaped in HTML (html.escape), never as a tag."""
+    source = _write(tmp_path / "hostile.csv", [
+        ROW.format(run=f'"{HOSTILE}"', sample="", filled="148.2020", operator="<b>x</b>"),
+    ])
+    out = tmp_path / "r.html"
+    assert main(["report", str(source), "-o", str(out)]) == 0
+    html_text = out.read_text(encoding="utf-8")
+    assert "<script" not in html_text.lower()
+    assert "<b>x</b>" not in html_text
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in html_text
+    assert "&lt;b&gt;x&lt;/b&gt;" in html_text
+    # self-contained: no external resources
+    assert not re.search(r"""(src|href)\s*=\s*["']?(https?:|//)""", html_text)
+
+
+def test_user_text_drawn_literally_in_pdf(tmp_path):
+    """Markup in user cells prints as the characters typed (fpdf2 text, markdown off)."""
+    source = _write(tmp_path / "hostile.csv", [
+        ROW.format(run=f'"{HOSTILE}"', sample="**S1**", filled="148.2020", operator="<b>x</b>"),
+    ])
+    out = tmp_path / "r.pdf"
+    assert main(["report", str(source), "-o", str(out)]) == 0
+    text = _flat(_pages(out)[0])
+    assert HOSTILE in text and "**S1**" in text and "<b>x</b>" in text
+
+
+def test_runs_without_sample_get_a_page_each_and_errors_exit_1(tmp_path):
+    """Runs with no sample get their own page; a bad row is reported on its page, exit 1."""
+    source = _write(tmp_path / "runs.csv", [
+        ROW.format(run="r1", sample="", filled="148.2020", operator="A"),
+        ROW.format(run="r2", sample="", filled="oops", operator="A"),
+    ])
+    out = tmp_path / "r.pdf"
+    assert main(["report", str(source), "-o", str(out)]) == 1
+    pages = [_flat(text) for text in _pages(out)]
+    assert len(pages) == 2
+    assert "Run r1" in pages[0] and "Run r2" in pages[1]
+    assert "Errors (these runs were not analysed)" in pages[1] and "row 3" in pages[1]
+
+
+def test_refuses_to_overwrite_without_force(tmp_path, capsys):
+    """An existing output is kept (exit 2) unless --force is given."""
+    out = tmp_path / "r.pdf"
+    out.write_bytes(b"keep me")
+    assert main(["report", str(DEMO), "-o", str(out)]) == 2
+    assert out.read_bytes() == b"keep me"
+    assert "--force" in capsys.readouterr().err
+    assert main(["report", str(DEMO), "-o", str(out), "--force"]) == 0
+    assert out.read_bytes().startswith(b"%PDF-")
+
+
+def test_format_follows_the_suffix_unless_given(tmp_path):
+    """.html gives HTML; --format pdf overrides the suffix."""
+    html_out, forced = tmp_path / "r.html", tmp_path / "r2.html"
+    assert main(["report", str(DEMO), "-o", str(html_out)]) == 0
+    assert html_out.read_bytes().startswith(b"<!DOCTYPE html>")
+    assert main(["report", str(DEMO), "-o", str(forced), "--format", "pdf"]) == 0
+    assert forced.read_bytes().startswith(b"%PDF-")
+
+
+def test_html_has_a_section_and_a_plot_per_sample(tmp_path):
+    """The HTML report has one page section per sample, each with an embedded SVG plot."""
+    out = tmp_path / "r.html"
+    assert main(["report", str(DEMO), "--profile", str(PROFILE), "-o", str(out)]) == 0
+    text = out.read_text(encoding="utf-8")
+    assert text.count('<section class="page"') == 7
+    assert text.count('src="data:image/svg+xml;base64,') == 7
+    assert "39.963 ± 0.022 g/mol" in text
+
+
+def test_plot_renders_with_pdftoppm(tmp_path, demo_pdf):
+    """A page rasterises (poppler's pdftoppm) and the plot area is not blank."""
+    if shutil.which("pdftoppm") is None:
+        pytest.skip("pdftoppm (poppler-utils) is not installed")
+    path, _ = demo_pdf
+    prefix = tmp_path / "page"
+    subprocess.run(["pdftoppm", "-png", "-r", "40", "-f", "1", "-l", "1", str(path),
+                    str(prefix)], check=True, capture_output=True, timeout=60)
+    image_path = next(tmp_path.glob("page*.png"))
+    import matplotlib.image
+
+    pixels = matplotlib.image.imread(str(image_path))
+    assert pixels.shape[0] > pixels.shape[1]  # portrait
+    dark = (pixels[..., :3].mean(axis=2) < 0.5).mean()
+    assert 0.005 < dark < 0.5
+
+
+def test_two_hundred_runs_two_hundred_pages(tmp_path):
+    """A file of 200 runs without samples makes 200 pages; the time is measured and bounded."""
+    rng = np.random.default_rng(7)
+    filled = 148.2020 + rng.normal(0, 0.0003, 200)
+    rows = [ROW.format(run=f"R{k:03d}", sample="", filled=f"{value:.4f}", operator="QA")
+            for k, value in enumerate(filled, start=1)]
+    source = _write(tmp_path / "many.csv", rows)
+    out = tmp_path / "many.pdf"
+    start = time.perf_counter()
+    assert main(["report", str(source), "-o", str(out)]) == 0
+    elapsed = time.perf_counter() - start
+    pages = pypdf.PdfReader(str(out)).pages
+    assert len(pages) == 200
+    assert "Run R137" in pages[136].extract_text()
+    print(f"200-run report: {elapsed:.1f} s", file=sys.stderr)
+    assert elapsed < 60
