@@ -12,6 +12,8 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from molid.cli import main
 from molid.grading import (
@@ -115,6 +117,24 @@ def test_rubric_band_arithmetic():
     got = rubric.band_points([0.0, 1.0, -1.0, 1.0001, 5.0, 5.1, np.nan])
     np.testing.assert_array_equal(got, [50, 50, 50, 20, 20, 5, np.nan])
     assert rubric.max_points == 50 + 30
+
+
+@settings(max_examples=60, deadline=None)
+@given(limits=st.lists(st.floats(0.01, 100), min_size=1, max_size=6, unique=True),
+       points=st.lists(st.floats(0, 100), min_size=7, max_size=7),
+       errors=st.lists(st.floats(-200, 200), min_size=2, max_size=20))
+def test_band_points_never_reward_a_larger_error(limits, points, errors):
+    """For any valid rubric, a larger percent error never earns more points (property)."""
+    limits = sorted(limits)
+    values = sorted(points, reverse=True)[: len(limits) + 1]
+    rubric = load_rubric({"percent_error": {
+        "bands": [{"up_to": limit, "points": value} for limit, value in zip(
+            limits, values, strict=False)], "beyond": values[len(limits)]}})
+    size = np.abs(np.array(errors))
+    order = np.argsort(size, kind="stable")
+    earned = rubric.band_points(size[order])
+    assert (np.diff(earned) <= 0).all()
+    assert earned.max() <= rubric.max_points - rubric.identification_points
 
 
 def test_points_add_up(tmp_path):
