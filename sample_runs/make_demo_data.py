@@ -116,7 +116,7 @@ R_CALORIE = R / 4.184          # cal/(mol·K): thermochemical calorie 4.184 J
 
 
 def student_molar_mass(cells, method, rho_air, mistake=None):
-    """What a student computes from the written readings, in g/mol.
+    """Compute what a student gets from the written readings, in g/mol.
 
     The student works in L, atm and K with R in L·atm/(mol·K), and adds the
     displaced air's mass (air density from the instructor's sheet) for an
@@ -151,9 +151,12 @@ def student_molar_mass(cells, method, rho_air, mistake=None):
 
 
 def teaching_section(rng):
-    """Two lab sections of the (fictional) Bramblewood Community College general chemistry
-    course weighing unknown gases in gas syringes and air-tared flasks; a few students make
-    the classic mistakes in their own calculation."""
+    """Write a teaching section and its answer key.
+
+    Two lab sections of the (fictional) Bramblewood Community College general chemistry
+    course weigh unknown gases in gas syringes and air-tared flasks; a few students make
+    the classic mistakes in their own calculation.
+    """
     unknowns = {  # sample: (key entry, CoolProp fluid)
         "U-01": ("N2", "Nitrogen"), "U-02": ("O2", "Oxygen"), "U-03": ("Ar", "Argon"),
         "U-04": ("CO2", "CarbonDioxide"), "U-05": ("n-butane", "n-Butane"),
