@@ -85,6 +85,8 @@ def test_fresh_random_section(seed):
             assert codes == [], run
         else:
             assert mistake in codes, (run, mistake, codes)
+    # readings without noise but rounded as written: the k = 2 intervals hold the true value
+    assert graded["in_interval"].astype(bool).mean() >= 0.9
 
 
 def test_fresh_section_writes_grades_and_plots(tmp_path):
@@ -169,6 +171,32 @@ def test_points_add_up(tmp_path):
     assert grades.at["p3", "diagnosis"] == ["unexplained"]
     assert grades.at["p3", "points"] == max(0, 10 + 0 - 25)
     assert (grades["max_points"] == 60).all()
+
+
+def test_interval_and_rank_of_the_true_gas():
+    """The true gas's interval uses its Z; a wrong key is out of the interval and ranked low.
+
+    Butane's ideal-gas value is 3 % high (PHYSICS note, CoolProp) yet its interval
+    holds the true M; argon keyed as oxygen is excluded.
+    """
+    rng = np.random.default_rng(15)
+    butane, rho_butane = simulate_run(rng, "n-butane", "evacuated-bulb")
+    argon, rho_argon = simulate_run(rng, "argon", "evacuated-bulb")
+    grades = grade(_frame([
+        {"run": "b", "expected": "n-butane", **butane,
+         "reported_molar_mass": f"{student_result(butane, rho_butane):#.5g}"},
+        {"run": "a", "expected": "oxygen", **argon,
+         "reported_molar_mass": f"{student_result(argon, rho_argon):#.5g}"},
+    ]), rubric={"identification": {"among": "library"}}).grades.set_index("run")
+    ideal_high = (grades.at["b", "molar_mass"] - grades.at["b", "true_molar_mass"])
+    assert ideal_high / grades.at["b", "true_molar_mass"] > 0.02
+    assert ideal_high > grades.at["b", "U"]  # the ideal-gas interval misses it
+    assert bool(grades.at["b", "in_interval"]) and grades.at["b", "expected_rank"] <= 2
+    assert grades.at["b", "points"] == grades.at["b", "max_points"]
+    assert not bool(grades.at["a", "in_interval"])
+    assert grades.at["a", "expected_rank"] > 5 and abs(grades.at["a", "expected_z"]) > 10
+    # among the whole library the nearest is argon, not the keyed oxygen
+    assert not bool(grades.at["a", "identified"]) and grades.at["a", "identified_as"] == "argon"
 
 
 def test_carry_forward_grades_the_recomputed_result():
