@@ -143,7 +143,7 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
         graded = is_graded(raw.columns, key)
     moment = _generated()
     if graded:
-        from molid.reports.grading import graded_report
+        from molid.reports.graded import graded_report
 
         report, ok = graded_report(fresh(), key=key, rubric=rubric, profile=profile,
                                    library=library, top=top)

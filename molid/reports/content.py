@@ -136,13 +136,19 @@ class Columns:
 
 @dataclass
 class Plot:
-    """A figure: ``make()`` returns a matplotlib Figure; size in millimetres."""
+    """A figure: ``make()`` returns a matplotlib Figure; size in millimetres.
+
+    ``raster_in_pdf`` asks the PDF writer for a high-resolution bitmap instead of
+    SVG, for figures that use SVG features fpdf2 does not draw (clip paths on
+    markers, mathtext tick labels).
+    """
 
     make: object
     width: float
     height: float
     alt: str = ""
     title: str = ""
+    raster_in_pdf: bool = False
 
 
 @dataclass
@@ -479,7 +485,7 @@ def _budget_table(rows, runs_count) -> Table:
         cells.append([f"{len(rest)} more inputs", "", "", "", f"{total:.2f}"])
     title = "Uncertainty budget" + (f" (mean over the {runs_count} runs)" if runs_count > 1 else "")
     return Table(title, ["input x", "u(x)", "c", "u_i(M)", "share of variance [%]"], cells,
-                 [27.0, 14.0, 14.0, 11.0, 20.0], "LRRRR", None,
+                 [25.0, 16.0, 13.0, 11.0, 21.0], "LRRRR", None,
                  "c = ∂M/∂x [g/mol per unit of x]; u_i(M) = |c|·u(x) [g/mol]; the shares of "
                  "the variance add to 100 %.", bars=4)
 

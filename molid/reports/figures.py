@@ -2,8 +2,8 @@
 
 Figures are built with matplotlib's object API (no pyplot state, so many pages can
 be drawn in one process) and saved as SVG with text kept as text, which both the
-PDF writer (fpdf2 draws SVG as vector paths) and the HTML writer embed. User
-text in a figure is never parsed as mathtext.
+PDF writer (fpdf2 draws SVG as vector paths) and the HTML writer embed. Dollar
+signs in user text are escaped, so a name is never parsed as mathtext.
 """
 
 from __future__ import annotations
@@ -26,7 +26,6 @@ _MM = 1 / 25.4  # inch per millimetre
 
 _STYLE = {
     "svg.fonttype": "none",
-    "text.parse_math": False,
     "font.family": "DejaVu Sans",
     "font.size": 7.0,
     "axes.titlesize": 7.0,
@@ -41,7 +40,7 @@ _STYLE = {
 
 
 def style_context():
-    """Return a matplotlib rc context with the report's style (text as text, no mathtext)."""
+    """Return a matplotlib rc context with the report's style (SVG text kept as text)."""
     import matplotlib
 
     return matplotlib.rc_context(_STYLE)
@@ -89,6 +88,7 @@ def _axis_axes(axes, value, expanded, points):
                   ls="none", zorder=4)
         lows += [molar_mass, measured - spread]
         highs += [molar_mass, measured + spread]
+        name = str(name).replace("$", r"\$")
         labels.append(f"{name} (label)" if is_label else name)
     low, high = min(lows), max(highs)
     pad = 0.08 * (high - low) or 0.01 * value
@@ -105,8 +105,10 @@ def _axis_axes(axes, value, expanded, points):
 
 def figure_svg(figure) -> bytes:
     """Save a figure as SVG (text as text, no timestamp: same input, same bytes)."""
+    import matplotlib
+
     buffer = io.BytesIO()
-    with style_context():
+    with matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "molid"}):
         figure.savefig(buffer, format="svg",
                        metadata={"Date": None, "Creator": None, "Format": None, "Type": None})
     return buffer.getvalue()
@@ -115,8 +117,7 @@ def figure_svg(figure) -> bytes:
 def figure_png(figure, dpi=200) -> bytes:
     """Save a figure as PNG (for the rare figure fpdf2's SVG reader cannot draw)."""
     buffer = io.BytesIO()
-    with style_context():
-        figure.savefig(buffer, format="png", dpi=dpi)
+    figure.savefig(buffer, format="png", dpi=dpi)
     return buffer.getvalue()
 
 

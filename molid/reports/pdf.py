@@ -366,8 +366,11 @@ def _plot(document, block, figure_svg, svg_for_pdf, figure_png, x=None):
         x = document.l_margin + (TEXT_WIDTH - block.width) / 2
     y = document.get_y()
     try:
-        document.image(io.BytesIO(svg_for_pdf(figure_svg(figure))), x=x, y=y, w=block.width,
-                       h=block.height)
+        if block.raster_in_pdf:
+            data = figure_png(figure, dpi=220)
+        else:
+            data = svg_for_pdf(figure_svg(figure))
+        document.image(io.BytesIO(data), x=x, y=y, w=block.width, h=block.height)
     except Exception:  # noqa: BLE001 - an SVG fpdf2 cannot read still prints, as a bitmap
         document.image(io.BytesIO(figure_png(figure, dpi=250)), x=x, y=y, w=block.width,
                        h=block.height)
