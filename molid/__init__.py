@@ -11,11 +11,13 @@ Heavy modules load on first use, so ``import molid`` stays quick.
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "read", "identify", "load_library"]
+__all__ = ["__version__", "read", "identify", "grade", "report", "load_library"]
 
 _LAZY = {
     "read": ("molid.reading", "read_runs"),
     "identify": ("molid.identify", "identify"),
+    "grade": ("molid.grading", "grade"),
+    "report": ("molid.reports", "write_report"),
     "load_library": ("molid.library", "load_library"),
 }
 

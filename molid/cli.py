@@ -116,13 +116,17 @@ def _load_library(args):
 
 
 def _identify(args) -> int:
-    from molid.export import to_csv, to_json, to_table
-    from molid.identify import identify
-    from molid.safeio import check_output_path, write_atomic
+    from molid.safeio import check_output_path
 
     output = check_output_path(args.output, [args.file, args.profile, args.library],
                                args.force) if args.output else None
     library = _load_library(args)
+    if output is not None and not args.json and _is_large_csv(args.file):
+        return _identify_streaming(args, output, library)
+    from molid.export import to_csv, to_json, to_table
+    from molid.identify import identify
+    from molid.safeio import write_atomic
+
     result = identify(args.file, profile=args.profile, library=library)
     if args.json:
         sys.stdout.write(to_json(result, None))
@@ -132,6 +136,42 @@ def _identify(args) -> int:
         write_atomic(output, to_csv(result))
         print(f"wrote {output}", file=sys.stderr)
     return EXIT_ROW_ERRORS if not result.ok.all() else EXIT_OK
+
+
+def _is_large_csv(name) -> bool:
+    """A CSV file with more rows than one chunk: analysed in chunks, straight to the CSV."""
+    from pathlib import Path
+
+    from molid.stream import DEFAULT_CHUNK_ROWS, count_data_lines
+
+    path = Path(name)
+    if name == "-" or not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
+        return False
+    with open(path, "rb") as stream:
+        if stream.read(4) == b"PK\x03\x04":
+            return False
+    return count_data_lines(path) > DEFAULT_CHUNK_ROWS
+
+
+def _identify_streaming(args, output, library) -> int:
+    from molid.stream import identify_to_csv
+
+    summary = identify_to_csv(args.file, output, profile=args.profile, library=library)
+    print(f"{summary.runs:,} runs analysed in {summary.seconds:.1f} s; "
+          f"{summary.rows_with_errors:,} with errors, {summary.rows_with_warnings:,} with warnings")
+    if summary.errors:
+        print("\nErrors (these rows were not analysed)")
+        for message in summary.errors:
+            print(message)
+        if summary.rows_with_errors > len(summary.errors):
+            print(f"... and {summary.rows_with_errors - len(summary.errors):,} more: see the "
+                  f"'error' column of {output}")
+    if summary.notes:
+        print("\nNotes")
+        for note in summary.notes:
+            print(f"- {note}")
+    print(f"wrote {output}", file=sys.stderr)
+    return EXIT_ROW_ERRORS if summary.rows_with_errors else EXIT_OK
 
 
 def _library(args) -> int:

@@ -6,15 +6,14 @@ contract other programs rely on; see the README.
 
 from __future__ import annotations
 
-import csv
-import io
 import json
 import math
 
 import numpy as np
+import pandas as pd
 
 from molid import __version__
-from molid.safeio import neutralise_cell
+from molid.ranking import VERDICTS, verdicts
 from molid.uncertainty import COVERAGE_FACTOR
 
 __all__ = [
@@ -164,57 +163,132 @@ _RESULT_COLUMNS = (
 )
 
 
-def csv_rows(result):
-    """Header and rows of the per-run CSV: the user's cells, then the results."""
+def neutralise_column(values) -> pd.Series:
+    """Vectorised :func:`molid.safeio.neutralise_cell` for a column of text."""
+    text = pd.Series(values, dtype=object).astype(str)
+    starts = text.str.match(r"^[=+\-@\t\r]").to_numpy(dtype=bool)
+    if not starts.any():
+        return text
+    numeric = pd.to_numeric(text.str.replace(",", ".", regex=False), errors="coerce").notna()
+    dangerous = starts & ~numeric.to_numpy(dtype=bool)
+    return text.where(~dangerous, "'" + text)
+
+
+def _top_candidates(ranking, n_rows, places):
+    """Names, verdicts and z of the best ``places`` candidates of every evaluated run."""
+    names = np.full((n_rows, places), "", dtype=object)
+    verdict = np.full((n_rows, places), "", dtype=object)
+    z_out = np.full((n_rows, places), np.nan)
+    rows = np.asarray(ranking.run_index, dtype=int)
+    if len(rows) == 0:
+        return names, verdict, z_out
+    z = ranking.runs["z"]
+    condenses = ranking.runs["condenses"]
+    key = np.where(np.isnan(z), np.inf, np.abs(z)) + np.where(condenses, 1e300, 0.0)
+    count = min(places, key.shape[1])
+    best = np.argpartition(key, count - 1, axis=1)[:, :count] if key.shape[1] > count else \
+        np.tile(np.arange(key.shape[1]), (len(rows), 1))
+    best_key = np.take_along_axis(key, best, axis=1)
+    # stable order among the chosen few, as the full ranking sorts them
+    best = np.take_along_axis(best, np.lexsort((best, best_key), axis=1), axis=1)[:, :count]
+    library_names = ranking.library["name"].to_numpy(dtype=object)
+    codes = verdicts(np.take_along_axis(z, best, axis=1), np.take_along_axis(condenses, best, axis=1))
+    names[rows, :count] = library_names[best]
+    verdict[rows, :count] = np.asarray(VERDICTS, dtype=object)[codes]
+    z_out[rows, :count] = np.round(np.take_along_axis(z, best, axis=1), 3)
+    return names, verdict, z_out
+
+
+def csv_frame(result) -> pd.DataFrame:
+    """The per-run CSV as a DataFrame: the user's cells, then the results (vectorised)."""
     table = result.table
+    n = len(table)
     user_columns = list(table.raw.columns)
-    result_columns = []
+    frame = pd.DataFrame({column: neutralise_column(table.raw[column].to_numpy(dtype=object))
+                          for column in user_columns})
+    ok = result.ok
+    value = result.molar_mass * _G
+    u = result.u * _G
+    expanded = COVERAGE_FACTOR * u
+    inputs = list(result.budget)
+    shares = np.vstack([result.budget[name] for name in inputs]) if inputs else np.zeros((0, n))
+    filled = np.where(np.isfinite(shares), shares, -1.0)
+    best = filled.argmax(axis=0) if len(inputs) else np.zeros(n, dtype=int)
+    best_share = filled[best, np.arange(n)] if len(inputs) else np.full(n, -1.0)
+    main = np.where(ok & (best_share >= 0),
+                    np.asarray(inputs, dtype=object)[best] + " "
+                    + np.char.mod("%.0f", np.round(best_share, 0)).astype(object) + "%", "")
+    results = {
+        "molar_mass_g_mol": value,
+        "u_g_mol": u,
+        "U_g_mol": expanded,
+        "k": pd.Series(np.where(ok, int(COVERAGE_FACTOR), 0), dtype="Int64").where(ok, pd.NA),
+        "low_g_mol": value - expanded,
+        "high_g_mol": value + expanded,
+        "model": np.where(ok, "ideal gas", ""),
+        "main_contribution": main,
+        "error": ["; ".join(row) for row in result.errors],
+        "warnings": [" | ".join(row) for row in result.warnings],
+    }
     for name in _RESULT_COLUMNS:
-        result_columns.append(f"molid_{name}" if name in user_columns else name)
-    candidate_columns = []
+        column = f"molid_{name}" if name in user_columns else name
+        item = results[name]
+        frame[column] = neutralise_column(item) if name in ("error", "warnings") else item
     if result.ranking is not None:
-        for place in range(1, CSV_TOP_CANDIDATES + 1):
-            candidate_columns += [f"candidate_{place}", f"candidate_{place}_verdict",
-                                  f"candidate_{place}_z"]
-        candidate_columns += ["label_verdict"]
-    header = user_columns + result_columns + candidate_columns
-    raw = table.raw.to_numpy(dtype=object)
-    rows = []
-    for index in range(len(table)):
-        error = "; ".join(result.errors[index])
-        if error:
-            numbers = [""] * 7
-            main = ""
+        names, verdict, z = _top_candidates(result.ranking, n, CSV_TOP_CANDIDATES)
+        for place in range(CSV_TOP_CANDIDATES):
+            frame[f"candidate_{place + 1}"] = neutralise_column(names[:, place])
+            frame[f"candidate_{place + 1}_verdict"] = verdict[:, place]
+            frame[f"candidate_{place + 1}_z"] = z[:, place]
+        frame["label_verdict"] = _label_verdicts(result.ranking, n)
+    frame.columns = list(neutralise_column(list(frame.columns)))
+    return frame
+
+
+def _label_verdicts(ranking, n_rows):
+    out = np.full(n_rows, "", dtype=object)
+    if not ranking.labels:
+        return out
+    position = {int(i): k for k, i in enumerate(ranking.run_index)}
+    rows, columns, missing = [], [], []
+    for index, (_, j) in ranking.labels.items():
+        if j is None:
+            missing.append(index)
         else:
-            block = molar_mass_block(result.molar_mass[index], result.u[index])
-            numbers = [block["value"], block["u"], block["U"], block["k"], block["low"],
-                       block["high"], block["model"]]
-            budget = _budget_list(result, index)
-            main = f"{budget[0]['input']} {budget[0]['percent']:.0f}%" if budget else ""
-        row = list(raw[index]) + numbers + [main, error, " | ".join(result.warnings[index])]
-        if result.ranking is not None:
-            candidates = [] if error else result.ranking.run_candidates(index, CSV_TOP_CANDIDATES)
-            for place in range(CSV_TOP_CANDIDATES):
-                if place < len(candidates):
-                    item = candidates[place]
-                    row += [item["name"], item["verdict"], round(item["z"], 3)
-                            if item["z"] is not None else ""]
-                else:
-                    row += ["", "", ""]
-            label = {} if error else result.ranking.run_extras(index).get("label") or {}
-            row.append(label.get("verdict", "") if label else "")
-        rows.append([neutralise_cell(cell) for cell in row])
-    return header, rows
+            rows.append(index)
+            columns.append(j)
+    if missing:
+        out[np.asarray(missing)] = "not-in-library"
+    if rows:
+        rows = np.asarray(rows)
+        k = np.asarray([position[i] for i in rows])
+        columns = np.asarray(columns)
+        codes = verdicts(ranking.runs["z"][k, columns], ranking.runs["condenses"][k, columns])
+        out[rows] = np.asarray(VERDICTS, dtype=object)[codes]
+    return out
 
 
-def to_csv(result) -> str:
-    """The per-run CSV as text."""
-    header, rows = csv_rows(result)
-    buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow([neutralise_cell(cell) for cell in header])
-    writer.writerows(rows)
-    return buffer.getvalue()
+def csv_rows(result):
+    """Header and rows of the per-run CSV (lists, for callers that want them)."""
+    frame = csv_frame(result)
+    return list(frame.columns), frame.astype(object).where(frame.notna(), "").to_numpy().tolist()
+
+
+def to_csv(result, header: bool = True) -> str:
+    """The per-run CSV as text (every text cell quoted, numbers bare, RFC 4180)."""
+    import io
+
+    import pyarrow as pa
+    import pyarrow.csv as pa_csv
+
+    frame = csv_frame(result)
+    for column in frame.columns:
+        if frame[column].dtype == object:
+            frame[column] = frame[column].astype("string")
+    buffer = io.BytesIO()
+    pa_csv.write_csv(pa.Table.from_pandas(frame, preserve_index=False), buffer,
+                     pa_csv.WriteOptions(include_header=header, quoting_style="needed"))
+    return buffer.getvalue().decode("utf-8")
 
 
 def _cut(text, width):

@@ -119,10 +119,16 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
     p = np.asarray(pressure, dtype=float)[:, None]
     M = np.asarray(molar_mass, dtype=float)[:, None]
     with np.errstate(all="ignore"):
-        B, dB_dT = second_virial(T, critical_temperature, critical_pressure, acentric, dipole,
-                                 classes, column["molar_mass"], hill, return_derivative=True)
+        # B depends on T alone: evaluate it once per distinct temperature (runs recorded
+        # to 0.01 K share values) and gather; the result is the same, bit for bit.
+        distinct, back = np.unique(T[:, 0], return_inverse=True)
+        B, dB_dT = second_virial(distinct[:, None], critical_temperature, critical_pressure,
+                                 acentric, dipole, classes, column["molar_mass"], hill,
+                                 return_derivative=True)
         B = np.where(has, B, 0.0)
         dB_dT = np.where(has, dB_dT, 0.0)
+        u_B_distinct = np.where(has, virial_uncertainty(classes, B), 0.0)
+        B, dB_dT, u_B = B[back], dB_dT[back], u_B_distinct[back]
         RT = GAS_CONSTANT * T
         x = B * (p / RT)
         root = np.sqrt(1.0 + 4.0 * x)
@@ -140,7 +146,6 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         u_p = uncertainties["pressure"][:, None]
         variance = (Z * Z * np.maximum(u_ideal_square - c_T**2 - c_p**2, 0.0)
                     + (Z * c_T + M * dZ_dT * u_T) ** 2 + (Z * c_p + M * dZ_dp * u_p) ** 2)
-        u_B = np.where(has, virial_uncertainty(classes, B), 0.0)
         u_truncation = np.where(has, virial_truncation_uncertainty(classes, T, p, B,
                                                                    form="density"), 0.0)
         u_model = M * np.sqrt((dZ_dx * u_B * p / RT) ** 2 + u_truncation**2)
@@ -395,6 +400,31 @@ class Ranking:
         }
 
 
+#: Runs evaluated at once: blocks whose (runs × candidates) arrays fit in the CPU's
+#: cache run about twice as fast as one large block.
+_BLOCK_ROWS = 2048
+
+
+def _evaluate_in_blocks(molar_mass, sensitivities, uncertainties, temperature, pressure, library):
+    n = len(molar_mass)
+    if n <= _BLOCK_ROWS:
+        return evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature,
+                                   pressure, library)
+    out = None
+    for start in range(0, n, _BLOCK_ROWS):
+        part = slice(start, start + _BLOCK_ROWS)
+        block = evaluate_candidates(
+            molar_mass[part], {name: item[part] for name, item in sensitivities.items()},
+            {name: item[part] for name, item in uncertainties.items()}, temperature[part],
+            pressure[part], library)
+        if out is None:  # filled in place: no second copy of the (runs × candidates) arrays
+            out = {key: np.empty((n,) + item.shape[1:], dtype=item.dtype)
+                   for key, item in block.items()}
+        for key, item in block.items():
+            out[key][part] = item
+    return out
+
+
 def _group_matrix(codes, groups, size):
     from scipy.sparse import csr_matrix
 
@@ -420,7 +450,7 @@ def rank_identification(result, library=None):
     uncertainties = {name: prop.uncertainties[name][index] for name in prop.uncertainties}
     temperature = table.values["temperature"][index]
     pressure = prop.extras["dry_pressure"][index]
-    runs = evaluate_candidates(prop.value[index], sensitivities, uncertainties, temperature,
+    runs = _evaluate_in_blocks(prop.value[index], sensitivities, uncertainties, temperature,
                                pressure, library)
 
     # Samples: the runs' per-candidate values combined with the weights of the ideal-gas

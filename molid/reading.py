@@ -28,6 +28,7 @@ __all__ = [
     "METHODS",
     "REQUIRED_COLUMNS",
     "InputError",
+    "RunIds",
     "RunTable",
     "read_raw",
     "parse_runs",
@@ -63,6 +64,72 @@ _FALSE = {"no", "n", "false", "0", "dry", ""}
 
 class InputError(ValueError):
     """A problem with a file as a whole: nothing in it can be analysed."""
+
+
+class RunIds:
+    """The run ids met so far in one file, to find duplicates across chunks.
+
+    Each id is kept as a 128-bit hash (two independent 64-bit keys of pandas'
+    vectorised hashing) with the row that first used it: 24 bytes a run, so a
+    file of a million runs needs 24 MB whatever the length of its ids. Two
+    different ids share both hashes with a probability of about n²/2¹²⁹.
+    """
+
+    _KEYS = ("molid-run-ids-01", "molid-run-ids-02")
+
+    def __init__(self):
+        self.first = np.zeros(0, dtype=np.uint64)
+        self.second = np.zeros(0, dtype=np.uint64)
+        self.rows = np.zeros(0, dtype=np.int64)
+
+    def check(self, run_ids, row_numbers) -> np.ndarray:
+        """Record a chunk's ids; return, per id, the row that used it first (0 where new).
+
+        Parameters
+        ----------
+        run_ids : numpy.ndarray of object
+            Run ids of the chunk (None where blank: never a duplicate).
+        row_numbers : numpy.ndarray of int
+            Their spreadsheet rows.
+
+        Returns
+        -------
+        numpy.ndarray of int
+            The earlier row for duplicates, 0 for ids met for the first time.
+        """
+        run_ids = np.asarray(run_ids, dtype=object)
+        rows = np.asarray(row_numbers, dtype=np.int64)
+        result = np.zeros(len(run_ids), dtype=np.int64)
+        present = np.array([item is not None for item in run_ids], dtype=bool) \
+            if len(run_ids) < 64 else pd.notna(pd.Series(run_ids, dtype=object)).to_numpy()
+        if not present.any():
+            return result
+        ids = run_ids[present].astype(str)
+        first = pd.util.hash_array(ids, hash_key=self._KEYS[0])
+        second = pd.util.hash_array(ids, hash_key=self._KEYS[1])
+        present_rows = rows[present]
+        # Earlier chunks.
+        position = np.searchsorted(self.first, first)
+        inside = position < len(self.first)
+        clipped = np.where(inside, position, 0)
+        earlier = inside & (self.first[clipped] == first) & (self.second[clipped] == second) \
+            if len(self.first) else np.zeros(len(first), dtype=bool)
+        found = np.where(earlier, self.rows[clipped] if len(self.rows) else 0, 0)
+        # Within this chunk: later uses point at the first.
+        codes, _ = pd.factorize(pd.Series(ids, dtype=object))
+        first_in_chunk = pd.Series(present_rows).groupby(codes).transform("first").to_numpy()
+        repeated = first_in_chunk != present_rows
+        found = np.where(~earlier & repeated, first_in_chunk, found)
+        result[present] = found
+        new = ~earlier & ~repeated
+        if new.any():
+            self.first = np.concatenate([self.first, first[new]])
+            self.second = np.concatenate([self.second, second[new]])
+            self.rows = np.concatenate([self.rows, present_rows[new]])
+            order = np.argsort(self.first, kind="stable")
+            self.first, self.second, self.rows = (self.first[order], self.second[order],
+                                                  self.rows[order])
+        return result
 
 
 @dataclass
@@ -258,8 +325,8 @@ class _Problems:
 
     def __init__(self, row_numbers: np.ndarray):
         self.row_numbers = row_numbers
-        self.errors = [[] for _ in row_numbers]
-        self.warnings = [[] for _ in row_numbers]
+        self.errors = [[] for _ in range(len(row_numbers))]
+        self.warnings = [[] for _ in range(len(row_numbers))]
 
     def error(self, mask, message) -> None:
         for index in np.flatnonzero(mask):
@@ -288,9 +355,10 @@ def parse_runs(
     decimal_comma: bool = False,
     profile: InstrumentProfile | None = None,
     first_row: int = 2,
-    seen_runs: dict | None = None,
+    seen_runs: RunIds | None = None,
     notes: list | None = None,
     source: str = "",
+    require_rows: bool = True,
 ) -> RunTable:
     """Validate a table of text cells and convert its measured columns to SI.
 
@@ -304,13 +372,15 @@ def parse_runs(
         Default uncertainties; the built-in default profile when None.
     first_row : int
         Spreadsheet row number of the first row of ``raw`` (2 for a whole file).
-    seen_runs : dict, optional
-        Run ids already met in earlier chunks of the same file (id -> row), updated
-        in place, so duplicate ids are found across chunks.
+    seen_runs : RunIds, optional
+        Run ids already met in earlier chunks of the same file, updated in place,
+        so duplicate ids are found across chunks.
     notes : list of str, optional
         File-level remarks to extend.
     source : str
         The file's name, for messages.
+    require_rows : bool
+        Raise when no data rows remain (False for later chunks of a long file).
 
     Returns
     -------
@@ -345,7 +415,7 @@ def parse_runs(
     row_numbers_all = np.arange(first_row, first_row + len(raw))
     raw = raw.loc[~blank].reset_index(drop=True)
     row_numbers = row_numbers_all[~blank]
-    if len(raw) == 0 and first_row == 2:
+    if len(raw) == 0 and require_rows:
         raise InputError(f"{source}: the file has a header but no data rows")
     problems = _Problems(row_numbers)
     n = len(raw)
@@ -363,19 +433,14 @@ def parse_runs(
             text[name] = pd.Series([None] * n, dtype=object)
     run = text["run"]
     problems.error(run.isna().to_numpy(), lambda i: "column 'run': the run id is empty; give each run a unique id")
-    seen = seen_runs if seen_runs is not None else {}
-    run_values = run.to_numpy()
-    for index in range(n):
-        run_id = run_values[index]
-        if run_id is None:
-            continue
-        if run_id in seen:
-            problems.errors[index].append(
-                f"row {row_numbers[index]}, column 'run': duplicate run id '{run_id}' "
-                f"(first used in row {seen[run_id]}); run ids must be unique"
-            )
-        else:
-            seen[run_id] = int(row_numbers[index])
+    registry_of_ids = seen_runs if seen_runs is not None else RunIds()
+    run_values = run.to_numpy(dtype=object)
+    first_use = registry_of_ids.check(run_values, row_numbers)
+    problems.error(
+        first_use > 0,
+        lambda i: f"column 'run': duplicate run id '{run_values[i]}' (first used in row "
+        f"{first_use[i]}); run ids must be unique",
+    )
     method = cells("method").str.strip().str.lower().str.replace(r"[\s_]+", "-", regex=True)
     method_values = method.to_numpy(dtype=object)
     text["method"] = pd.Series(np.where(method_values == "", None, method_values), dtype=object)
@@ -415,7 +480,10 @@ def parse_runs(
             continue
         numbers, is_blank, not_number = _numbers(cells(name), decimal_comma)
         original = cells(name).to_numpy()
-        problems.error(
+        # The student's own result is not a measurement input: a bad cell there is only
+        # a warning, so the run is still analysed.
+        report = problems.warn if name == "reported_molar_mass" else problems.error
+        report(
             not_number,
             lambda i, name=name, unit=unit, original=original: (
                 f"column '{by_name[name].original}': '{original[i]}' is not a number; "
@@ -489,7 +557,7 @@ def parse_runs(
         assumed_value, assumed_rule = profile.assumed[name]
         assumed_rows[name] = blanks[name]
         if blanks[name].any():
-            how_many = "every row" if blanks[name].all() else f"{int(blanks[name].sum())} row(s)"
+            how_many = "every row" if blanks[name].all() else "some rows"
             width = assumed_rule.apply(assumed_value)
             label = "relative humidity" if name == "humidity" else "CO2 mole fraction"
             shown = f"{assumed_value * 100:g} %" if name == "humidity" else f"{assumed_value:g}"

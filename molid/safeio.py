@@ -76,6 +76,10 @@ def write_atomic(path, data: bytes | str) -> None:
         data = data.encode("utf-8")
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     try:
+        # mkstemp makes the file private; give it the permissions a new file would get.
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(temporary, 0o666 & ~umask)
         with os.fdopen(handle, "wb") as stream:
             stream.write(data)
             stream.flush()

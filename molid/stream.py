@@ -1,0 +1,239 @@
+"""Large run files: analyse in chunks, write the per-run CSV as it goes, in bounded memory.
+
+A file of any length is read ``chunk_rows`` rows at a time; each chunk is
+validated, evaluated and ranked against the full library, and its rows are
+appended to a temporary file that replaces the output only when the whole file
+is done. Memory holds one chunk plus 24 bytes per run id seen (for duplicate
+ids across chunks). Replicates are not combined in this mode, since the
+per-run CSV has no place for samples; the JSON and terminal outputs of
+:func:`molid.identify.identify` combine them for files that fit in memory.
+"""
+
+from __future__ import annotations
+
+import codecs
+import os
+import sys
+import tempfile
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from molid.identify import Identification, evaluate_runs
+from molid.instruments import InstrumentProfile, load_profile
+from molid.reading import InputError, RunIds, _sniff_separator, parse_runs
+from molid.uncertainty import budget_percent
+
+__all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv"]
+
+#: Rows per chunk: large enough that numpy's per-call overhead is small, small
+#: enough that a chunk's candidate arrays (rows × about 100 candidates) stay in
+#: tens of megabytes.
+DEFAULT_CHUNK_ROWS = 10_000
+_MAX_LISTED = 20
+
+
+@dataclass
+class StreamSummary:
+    """What a streamed run produced."""
+
+    runs: int = 0
+    rows_with_errors: int = 0
+    rows_with_warnings: int = 0
+    errors: list = field(default_factory=list)
+    notes: list = field(default_factory=list)
+    seconds: float = 0.0
+
+
+def count_data_lines(path) -> int:
+    """Lines after the header (an upper bound on the runs: blank lines count too)."""
+    lines = 0
+    last = b"\n"
+    with open(path, "rb") as stream:
+        while block := stream.read(1 << 24):
+            lines += block.count(b"\n")
+            last = block[-1:]
+    return max(lines - 1 + (last != b"\n"), 0)
+
+
+def _check_utf8(path) -> str:
+    """'utf-8-sig' when the file decodes as UTF-8, else 'cp1252' (a note says so)."""
+    decoder = codecs.getincrementaldecoder("utf-8")()
+    with open(path, "rb") as stream:
+        try:
+            while block := stream.read(1 << 24):
+                decoder.decode(block)
+            decoder.decode(b"", final=True)
+        except UnicodeDecodeError:
+            return "cp1252"
+    return "utf-8-sig"
+
+
+def _merge_notes(collected: dict) -> list:
+    """Notes of all chunks, once each; 'every row' gives way to 'some rows' when chunks differ."""
+    merged = []
+    for note in collected:
+        if " for every row" in note and note.replace(" for every row", " for some rows") in collected:
+            continue
+        merged.append(note)
+    return merged
+
+
+class _Progress:
+    """A one-line progress report on stderr, only when stderr is a terminal."""
+
+    def __init__(self, total: int, enabled: bool | None = None):
+        self.total = max(total, 1)
+        self.enabled = sys.stderr.isatty() if enabled is None else enabled
+        self.last = 0.0
+
+    def update(self, done: int, final: bool = False) -> None:
+        if not self.enabled:
+            return
+        now = time.monotonic()
+        if not final and now - self.last < 0.2:
+            return
+        self.last = now
+        share = min(done / self.total, 1.0)
+        bar = "#" * int(share * 30)
+        sys.stderr.write(f"\rmolid: [{bar:<30}] {done:,} of about {self.total:,} runs "
+                         f"({share * 100:3.0f} %)")
+        if final:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path | None = None,
+                    library=None, chunk_rows: int = DEFAULT_CHUNK_ROWS,
+                    progress: bool | None = None) -> StreamSummary:
+    """Analyse a CSV run file chunk by chunk and write the per-run CSV.
+
+    Parameters
+    ----------
+    source : str or pathlib.Path
+        A CSV file (comma or semicolon separated).
+    output : str or pathlib.Path
+        The CSV to write; replaced only when the whole file is done.
+    profile : InstrumentProfile or path, optional
+        Default uncertainties.
+    library : pandas.DataFrame, optional
+        Candidate library; the default library when None.
+    chunk_rows : int
+        Rows per chunk.
+    progress : bool, optional
+        Show a progress line on stderr; by default only when stderr is a terminal.
+
+    Returns
+    -------
+    StreamSummary
+        Counts, the first error messages, and the file's notes.
+
+    Raises
+    ------
+    InputError
+        When the file cannot be read or has no data rows.
+    """
+    from molid.export import to_csv
+    from molid.library import load_library
+    from molid.ranking import rank_identification
+
+    started = time.monotonic()
+    if profile is None or isinstance(profile, (str, Path)):
+        profile = load_profile(profile)
+    library = load_library() if library is None else library
+    path = Path(source)
+    try:
+        with open(path, "rb") as stream:
+            head = stream.read(1 << 16)
+    except FileNotFoundError:
+        raise InputError(f"{path}: no such file") from None
+    except OSError as error:
+        raise InputError(f"{path}: cannot read it ({error.strerror})") from None
+    if not head.strip():
+        raise InputError(f"{path}: the file is empty; expected a header row and data rows")
+    encoding = _check_utf8(path)
+    notes: dict = {}
+    if encoding == "cp1252":
+        notes["the file is not valid UTF-8; it was read as Windows-1252"] = None
+    separator = _sniff_separator(head.decode(encoding, errors="replace"))
+    progress_line = _Progress(count_data_lines(path), progress)
+    summary = StreamSummary()
+    seen = RunIds()
+    output = Path(output)
+    handle, temporary = tempfile.mkstemp(prefix=f".{output.name}.", suffix=".part",
+                                         dir=output.parent)
+    try:
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(temporary, 0o666 & ~umask)
+        with os.fdopen(handle, "w", encoding="utf-8", newline="") as sink:
+            reader = pd.read_csv(path, sep=separator, dtype=str, keep_default_na=False,
+                                 skip_blank_lines=False, skipinitialspace=True,
+                                 encoding=encoding, chunksize=chunk_rows)
+            first_row = 2
+            try:
+                for raw in reader:
+                    raw.columns = [str(column) for column in raw.columns]
+                    table = parse_runs(raw, decimal_comma=separator in (";", "\t"),
+                                       profile=profile, first_row=first_row, seen_runs=seen,
+                                       source=str(path), require_rows=False)
+                    first_row += len(raw)
+                    if len(table) == 0:
+                        continue
+                    result = _evaluate_chunk(table, profile)
+                    rank_identification(result, library=library)
+                    sink.write(to_csv(result, header=summary.runs == 0))
+                    summary.runs += len(table)
+                    bad = [row for row in result.errors if row]
+                    summary.rows_with_errors += len(bad)
+                    summary.rows_with_warnings += sum(1 for row in result.warnings if row)
+                    for row in bad:
+                        if len(summary.errors) < _MAX_LISTED:
+                            summary.errors.append("; ".join(row))
+                    for note in table.notes:
+                        notes.setdefault(note, None)
+                    progress_line.update(summary.runs)
+            except pd.errors.EmptyDataError:
+                raise InputError(f"{path}: no header row found") from None
+            except pd.errors.ParserError as error:
+                raise InputError(f"{path}: cannot read it as CSV ({error})") from None
+            sink.flush()
+            os.fsync(sink.fileno())
+        if summary.runs == 0:
+            raise InputError(f"{path}: the file has a header but no data rows")
+        os.replace(temporary, output)
+    except BaseException:
+        try:
+            os.unlink(temporary)
+        except FileNotFoundError:
+            pass
+        raise
+    progress_line.update(summary.runs, final=True)
+    summary.notes = _merge_notes(notes)
+    summary.notes.append("replicates were not combined: a large file written straight to CSV "
+                         "gives one row per run")
+    summary.seconds = time.monotonic() - started
+    return summary
+
+
+def _evaluate_chunk(table, profile) -> Identification:
+    propagation, errors, warnings = evaluate_runs(table, profile)
+    ok = np.array([not row for row in errors], dtype=bool)
+    empty_samples = pd.DataFrame({"sample": pd.Series([], dtype=object), "n": [], "value": [],
+                                  "u": [], "birge_ratio": [], "widened": []})
+    return Identification(
+        table=table,
+        molar_mass=np.where(ok, propagation.value, np.nan),
+        u=np.where(ok, propagation.standard_uncertainty, np.nan),
+        errors=errors,
+        warnings=warnings,
+        budget=budget_percent(propagation.contributions),
+        propagation=propagation,
+        samples=empty_samples,
+        sample_runs={},
+        sample_warnings={},
+        notes=list(table.notes),
+    )
