@@ -252,3 +252,80 @@ def test_two_hundred_runs_two_hundred_pages(tmp_path):
     assert "Run R137" in pages[136].extract_text()
     print(f"200-run report: {elapsed:.1f} s", file=sys.stderr)
     assert elapsed < 60
+
+
+TEACHING = ROOT / "sample_runs" / "teaching_section.csv"
+TEACHING_KEY = ROOT / "sample_runs" / "teaching_key.csv"
+
+
+@pytest.fixture(scope="module")
+def graded_pdf(tmp_path_factory):
+    """Make the demo section's graded report; return it with the grading it shows."""
+    pytest.importorskip("molid.grading")
+    from molid.grading import grade
+
+    out = tmp_path_factory.mktemp("graded") / "section.pdf"
+    # one student's row has no readings: exit 1, every other row still on its sheet
+    assert main(["report", str(TEACHING), "--key", str(TEACHING_KEY), "-o", str(out)]) == 1
+    return out, grade(TEACHING, key=TEACHING_KEY)
+
+
+def test_graded_report_has_a_sheet_per_student_then_the_summary(graded_pdf):
+    """One sheet per student in file order, then the class summary pages."""
+    path, grading = graded_pdf
+    pages = [_flat(text) for text in _pages(path)]
+    students = list(dict.fromkeys(grading.grades["student"]))
+    assert len(pages) == len(students) + 2
+    for text, student in zip(pages, students, strict=False):
+        assert f"Student: {student}" in text
+    assert "Class summary" in pages[len(students)]
+    for unknown in grading.summary["by_unknown"]:
+        assert unknown["unknown"] in pages[len(students)]
+
+
+def test_student_sheet_shows_points_recomputation_and_diagnosis(graded_pdf):
+    """Each sheet carries the student's run, points, recomputed M ± U and diagnosis words."""
+    path, grading = graded_pdf
+    pages = [_flat(text) for text in _pages(path)]
+    for number, row in enumerate(grading.grades.itertuples(index=False)):
+        text = pages[number]
+        assert re.search(rf"\b{row.run}\b", text)
+        if row.error:
+            assert "Not graded" in text
+            continue
+        assert f"Points: {row.points:g} of {row.max_points:g}" in text
+        assert format_value(row.molar_mass, row.U) in text
+        if row.diagnosis_text:
+            words = row.diagnosis_text[0].upper() + row.diagnosis_text[1:]
+            assert words in text
+        else:
+            assert "No mistake found" in text
+
+
+def test_percent_error_on_sheet_matches_standard_atomic_weight(graded_pdf):
+    """B03 reported 2.983 g/mol for argon: 100·(2.983 − 39.95)/39.95 = −92.5 %.
+
+    Source: IUPAC 2021 abridged standard atomic weight of argon, 39.95 (from memory).
+    """
+    path, grading = graded_pdf
+    pages = [_flat(text) for text in _pages(path)]
+    number = list(grading.grades["run"]).index("B03")
+    expected = 100 * (2.983 - 39.95) / 39.95
+    assert f"{expected:+.1f} %".replace("-", "−") in pages[number]
+    assert "argon (Ar)" in pages[number]
+
+
+def test_student_and_reported_columns_make_a_file_graded(tmp_path):
+    """Without --key, a file with student and reported_molar_mass columns is graded."""
+    pytest.importorskip("molid.grading")
+    source = tmp_path / "s.csv"
+    source.write_text(
+        "run,student,sample,expected,method,mass_tare,mass_filled,volume,temperature,pressure,"
+        "reported_molar_mass\n"
+        "k1,Ana <i>Ruiz</i>,U1,argon,evacuated-bulb,147.3839,148.2020,500.12,21.72,100.39,39.9\n",
+        encoding="utf-8")
+    out = tmp_path / "s.html"
+    assert main(["report", str(source), "-o", str(out)]) == 0
+    text = out.read_text(encoding="utf-8")
+    assert "Student: Ana &lt;i&gt;Ruiz&lt;/i&gt;" in text and "<i>Ruiz" not in text
+    assert "Class summary" in text
