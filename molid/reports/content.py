@@ -433,7 +433,10 @@ def _inputs_table(result, positions, run_labels, notes=()) -> Table:
                 row.append("")
                 continue
             values, u = display[name]
-            row.append(f"{u[0]:.2g}" if same_u[name] and np.isfinite(u[0]) else "per run")
+            if not np.isfinite(u).any():
+                row.append("–")
+            else:
+                row.append(f"{u[0]:.2g}" if same_u[name] else "per run")
         row += ["", ""]
         rows.append(row)
         styles.append(["muted"] * len(row))

@@ -87,8 +87,10 @@ def _grade_table(frame) -> Table:
             _number(row.deduction, 0) if row.deduction else "0",
             f"{row.points:g} / {row.max_points:g}",
         ])
-        styles.append([None] * 5 + ["consistent" if inside else "excluded"] + [None] * 2
-                      + ([None, "excluded"] if row.deduction else [None, "consistent"]))
+        share = row.points / row.max_points if row.max_points else 0.0
+        level = "consistent" if share >= 0.8 else "marginal" if share >= 0.5 else "excluded"
+        styles.append([None] * 5 + ["consistent" if inside else "excluded"] + [None] * 3
+                      + [level])
     return Table(
         "Your result and the grade",
         ["run", "your M [g/mol]", "recomputed M ± U [g/mol]", "error", "error for points",
