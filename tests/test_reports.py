@@ -329,3 +329,17 @@ def test_student_and_reported_columns_make_a_file_graded(tmp_path):
     text = out.read_text(encoding="utf-8")
     assert "Student: Ana &lt;i&gt;Ruiz&lt;/i&gt;" in text and "<i>Ruiz" not in text
     assert "Class summary" in text
+
+
+def test_characters_without_a_glyph_print_as_code_points(tmp_path):
+    """A run id in a script DejaVu Sans lacks prints as [U+XXXX], not as a blank.
+
+    U+6D4B is the CJK ideograph 测 (Unicode Standard, CJK Unified Ideographs block).
+    """
+    source = _write(tmp_path / "cjk.csv", [
+        ROW.format(run="测-1", sample="", filled="148.2020", operator="Zoë Ångström"),
+    ])
+    out = tmp_path / "r.pdf"
+    assert main(["report", str(source), "-o", str(out)]) == 0
+    text = _flat(_pages(out)[0])
+    assert "Run [U+6D4B]-1" in text and "Zoë Ångström" in text

@@ -8,13 +8,14 @@ US Letter.
 
 from __future__ import annotations
 
+import functools
 import io
 import logging
 from pathlib import Path
 
 from molid.reports.content import Bullets, Columns, Fields, Highlight, Plot, Signature, Table
 
-__all__ = ["PAPER_SIZES", "TEXT_WIDTH", "render_pdf", "font_path"]
+__all__ = ["PAPER_SIZES", "TEXT_WIDTH", "render_pdf", "font_path", "printable"]
 
 #: Paper sizes [mm].
 PAPER_SIZES = {"a4": (210.0, 297.0), "letter": (215.9, 279.4)}
@@ -58,7 +59,7 @@ def _document_class():
             self.set_text_color(110, 110, 110)
             self.set_xy(self.l_margin, 7)
             self.cell(TEXT_WIDTH / 2, 4, self.report_title)
-            self.cell(TEXT_WIDTH / 2, 4, self.report_source, align="R")
+            self.cell(TEXT_WIDTH / 2, 4, printable(self.report_source), align="R")
             self.set_draw_color(200, 200, 200)
             self.line(self.l_margin, 11.5, self.l_margin + TEXT_WIDTH, 11.5)
             self.set_text_color(0, 0, 0)
@@ -138,12 +139,41 @@ def _measurer(document):
     return width
 
 
+@functools.lru_cache(maxsize=1)
+def _glyphs() -> frozenset:
+    """Return the code points the report font can draw."""
+    from fontTools.ttLib import TTFont
+
+    with TTFont(str(font_path("")), lazy=True) as font:
+        return frozenset(font.getBestCmap())
+
+
+def printable(text) -> str:
+    """Replace characters the font has no glyph for by a visible ``[U+XXXX]`` code.
+
+    A run id in a script DejaVu Sans does not cover would otherwise print as
+    nothing at all; on a filed record the code point is better than a gap.
+
+    Examples
+    --------
+    >>> printable("CO₂ ± 0.1 °C"), printable("测")
+    ('CO₂ ± 0.1 °C', '[U+6D4B]')
+    """
+    text = str(text)
+    glyphs = _glyphs()
+    if all(ord(character) in glyphs or character in "\n" for character in text):
+        return text
+    return "".join(character if ord(character) in glyphs or character == "\n"
+                   else f"[U+{ord(character):04X}]" for character in text)
+
+
 def _wrap(document, text, width) -> list:
     """Break text into lines that fit a width [mm] in the current font.
 
     Word widths are measured once and added up, so the cost grows linearly with
     the text (fpdf2's own line breaker re-measures each line as it grows).
     """
+    text = printable(text)
     measure = _measurer(document)
     space = measure(" ")
     lines = []
@@ -400,7 +430,7 @@ def _bullets(document, block):
         document.set_line_width(0.2)
     document.set_xy(document.l_margin + 2.5, top + 1.2)
     document.set_font(_FONT, "B", 8)
-    document.cell(inner, 3.8, block.title, new_x="LEFT", new_y="NEXT")
+    document.cell(inner, 3.8, printable(block.title), new_x="LEFT", new_y="NEXT")
     document.set_font(_FONT, "", 7.2)
     for lines in wrapped:
         document.set_x(document.l_margin + 2.5)
