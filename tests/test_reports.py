@@ -343,3 +343,17 @@ def test_characters_without_a_glyph_print_as_code_points(tmp_path):
     assert main(["report", str(source), "-o", str(out)]) == 0
     text = _flat(_pages(out)[0])
     assert "Run [U+6D4B]-1" in text and "Zoë Ångström" in text
+
+
+def test_same_input_same_bytes_with_source_date_epoch(tmp_path, monkeypatch):
+    """With SOURCE_DATE_EPOCH set, two PDF runs are byte-identical (reproducible-builds.org)."""
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1764547200")
+    source = _write(tmp_path / "two.csv", [
+        ROW.format(run="a1", sample="S", filled="148.2020", operator="QA"),
+        ROW.format(run="a2", sample="S", filled="148.2024", operator="QA"),
+    ])
+    first, second = tmp_path / "1.pdf", tmp_path / "2.pdf"
+    assert main(["report", str(source), "-o", str(first)]) == 0
+    assert main(["report", str(source), "-o", str(second)]) == 0
+    assert first.read_bytes() == second.read_bytes()
+    assert "generated 2025-12-01 00:00 UTC" in _pages(first)[0]
