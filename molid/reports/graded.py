@@ -65,7 +65,15 @@ def _groups(grades):
     return [(key, groups[key]) for key in order]
 
 
-def _grade_table(frame) -> Table:
+def _reported(row, typed) -> str:
+    """Show the student's reported molar mass as they wrote it, else formatted."""
+    written = typed.get(int(row.row), "")
+    if written:
+        return written
+    return _number(row.reported_molar_mass, 3) if np.isfinite(row.reported_molar_mass) else "–"
+
+
+def _grade_table(frame, typed) -> Table:
     rows, styles = [], []
     for row in frame.itertuples(index=False):
         if row.error:
@@ -77,7 +85,7 @@ def _grade_table(frame) -> Table:
                 if row.expected_rank is not None and np.isfinite(row.expected_rank) else "–")
         rows.append([
             row.run,
-            _number(row.reported_molar_mass, 3) if np.isfinite(row.reported_molar_mass) else "–",
+            _reported(row, typed),
             format_with_uncertainty(row.molar_mass, row.U),
             _percent(row.percent_error),
             _number(row.graded_percent_error, 2, " %"),
@@ -105,7 +113,7 @@ def _grade_table(frame) -> Table:
     )
 
 
-def _student_page(grading, key, positions, run_labels, columns, hazards, top) -> Page:
+def _student_page(grading, key, positions, run_labels, columns, hazards, top, typed) -> Page:
     frame = grading.grades.iloc[positions]
     result = grading.identification
     kind, ident = key
@@ -137,7 +145,7 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top) ->
         truth = (f"{row.expected_name} ({row.expected}), M = {row.true_molar_mass:.3f} g/mol"
                  if row.expected_name else f"{row.expected or 'not given'}")
         prefix = f"{row.run}: " if len(graded) > 1 else ""
-        reported = (f"you reported {row.reported_molar_mass:.4g} g/mol, an error of "
+        reported = (f"you reported {_reported(row, typed)} g/mol, an error of "
                     f"{_percent(row.percent_error)}" if np.isfinite(row.reported_molar_mass)
                     else f"recomputed error {_percent(row.percent_error)}")
         lines.append(f"{prefix}Unknown {row.sample or '–'} is {truth}; {reported}.")
@@ -150,7 +158,7 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top) ->
                 f"{format_with_uncertainty(row.true_gas_molar_mass, row.true_gas_U)} g/mol, "
                 f"which {inside} the true value.")
     blocks.append(Highlight(lines))
-    blocks.append(_grade_table(frame))
+    blocks.append(_grade_table(frame, typed))
 
     diagnosis = []
     for row in frame.itertuples(index=False):
@@ -318,7 +326,10 @@ def graded_report(source, *, key=None, rubric=None, profile=None, library=None, 
         library_frame = result.ranking.library
         hazards = {name: list(classes) for name, classes in
                    zip(library_frame["name"], library_frame["ghs_hazards"], strict=True)}
-    pages = [_student_page(grading, group, positions, run_labels, columns, hazards, top)
+    cells = _free_column(table.raw, ("reported_molar_mass",))
+    typed = {} if cells is None else {int(number): cell for number, cell in
+                                      zip(table.row_numbers, cells, strict=True) if cell}
+    pages = [_student_page(grading, group, positions, run_labels, columns, hazards, top, typed)
              for group, positions in _groups(grading.grades)]
     pages += _summary_pages(grading)
     ok = bool(grading.grades["error"].isna().all())
