@@ -256,7 +256,8 @@ def _summary_pages(grading) -> list:
     blocks = [Highlight(lines)]
     by_unknown = Table("By unknown", ["unknown"] + _SUMMARY_COLUMNS[1:],
                        _summary_rows(summary["by_unknown"], "unknown"), _SUMMARY_WIDTHS,
-                       "LRRRRRRRR")
+                       "LRRRRRRRR", note=summary["statistics"][0].upper()
+                       + summary["statistics"][1:] + ".")
     blocks.append(by_unknown)
     if len(summary["by_section"]) > 1 or (summary["by_section"] and
                                           summary["by_section"][0]["section"] != "(no section)"):
@@ -275,7 +276,6 @@ def _summary_pages(grading) -> list:
             f"{item['run']} ({item['student'] or 'no name'}): error "
             f"{_percent(item['percent_error'])}, robust z {_number(item['robust_z'], 1)}"
             for item in outliers], "warning"))
-    blocks.append(Bullets("How the numbers are computed", [summary["statistics"]], "note"))
     first = Page("Class summary", "", blocks, key="class summary")
     pages = [first]
     plots = []
@@ -286,7 +286,8 @@ def _summary_pages(grading) -> list:
         figure = maker(grading)
         width, height = figure.get_size_inches()
         # These figures clip markers and use mathtext ticks, which fpdf2's SVG reader skips.
-        plots.append(Plot(lambda figure=figure: figure, 180.0, min(180.0 * height / width, 235.0),
+        size = 170.0 if not plots else 180.0
+        plots.append(Plot(lambda figure=figure: figure, size, min(size * height / width, 235.0),
                           alt, raster_in_pdf=True))
     first.blocks.insert(1, plots[0])
     pages.append(Page("Class summary: intervals", "", [plots[1]], key="class intervals"))
