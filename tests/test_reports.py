@@ -136,7 +136,9 @@ def test_paper_sizes(tmp_path, paper, size):
     out = tmp_path / "r.pdf"
     assert main(["report", str(DEMO), "--profile", str(PROFILE), "-o", str(out),
                  "--paper", paper]) == 0
-    box = pypdf.PdfReader(str(out)).pages[0].mediabox
+    reader = pypdf.PdfReader(str(out))
+    assert len(reader.pages) == 7  # a sample's page fits on either paper, nothing runs over
+    box = reader.pages[0].mediabox
     assert float(box.width) == pytest.approx(size[0], abs=0.05)
     assert float(box.height) == pytest.approx(size[1], abs=0.05)
     margin_mm = (float(box.width) / 72 * 25.4 - 180) / 2
@@ -357,3 +359,12 @@ def test_same_input_same_bytes_with_source_date_epoch(tmp_path, monkeypatch):
     assert main(["report", str(source), "-o", str(second)]) == 0
     assert first.read_bytes() == second.read_bytes()
     assert "generated 2025-12-01 00:00 UTC" in _pages(first)[0]
+
+
+def test_top_limits_the_candidate_table(tmp_path):
+    """--top 2 lists two ranked candidates per page."""
+    out = tmp_path / "r.html"
+    assert main(["report", str(DEMO), "--profile", str(PROFILE), "-o", str(out), "--top", "2"]) == 0
+    text = out.read_text(encoding="utf-8")
+    assert text.count("Candidates, ranked (top 2)") == 7
+    assert "Candidates, ranked (top 5)" not in text
