@@ -48,8 +48,8 @@ SAFETY_FOOTNOTE = (
 #: Cautions keyed by the start of a GHS hazard-class abbreviation (common practice of
 #: compressed-gas handling; the classes are those of the GHS / CLP Regulation).
 _CAUTIONS = (
-    ("Press. Gas", "gas under pressure: secure the cylinder upright, use the regulator made for "
-                   "this gas, close the valve after use"),
+    ("Press. Gas", "gas under pressure: secure the cylinder, use the regulator made for this gas, "
+                   "close the valve after use"),
     ("Flam. Gas", "flammable gas: no ignition sources nearby, ventilate, check fittings for leaks"),
     ("Flam. Liq.", "flammable liquid or vapour: no open flames; heat it only in a water bath"),
     ("Pyr. Gas", "pyrophoric: ignites on contact with air; handle only in a purged system"),
@@ -261,6 +261,12 @@ def _to_display(values, unit):
 def _normalise_header(text) -> str:
     name = re.sub(r"\[.*?\]", "", str(text)).strip().lower()
     return re.sub(r"[\s\-]+", "_", name)
+
+
+def _file_name(source) -> str:
+    """Strip the folders from a file name (the running header carries the full path)."""
+    text = str(source or "data")
+    return text.replace("\\", "/").rsplit("/", 1)[-1] or text
 
 
 def _free_column(raw, names):
@@ -477,15 +483,16 @@ def _budget_rows(result, positions):
 
 
 def _budget_table(rows, runs_count) -> Table:
-    shown = [row for row in rows if row[1] >= 0.05]
-    rest = [row for row in rows if row[1] < 0.05]
+    shown = [row for row in rows if row[1] >= 0.5]
+    rest = [row for row in rows if row[1] < 0.5]
     cells = []
     for name, share, contribution, u, c, unit in shown:
         cells.append([INPUT_LABELS.get(name, name), f"{u:.2g} {unit}".strip(), _compact(c),
                       f"{contribution:.2g}", f"{share:.1f}"])
     if rest:
         total = sum(row[1] for row in rest)
-        cells.append([f"{len(rest)} more inputs", "", "", "", f"{total:.2f}"])
+        cells.append([f"{len(rest)} more input{'s' if len(rest) > 1 else ''}", "", "", "",
+                      f"{total:.2f}"])
     title = "Uncertainty budget" + (f" (mean over the {runs_count} runs)" if runs_count > 1 else "")
     return Table(title, ["input x", "u(x)", "c", "u_i(M)", "share of variance [%]"], cells,
                  [25.0, 16.0, 13.0, 11.0, 21.0], "LRRRR", None,
@@ -565,8 +572,9 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
         fields.append(("Date", date))
     fields.append(("Method", ", ".join(dict.fromkeys(methods)) or "–"))
     rows = ", ".join(str(table.row_numbers[p]) for p in positions)
-    fields.append(("Source", f"{table.source or 'data'} (row {rows})" if len(positions) == 1
-                   else f"{table.source or 'data'} (rows {rows})"))
+    name = _file_name(table.source)
+    fields.append(("Source", f"{name}, row {rows}" if len(positions) == 1
+                   else f"{name}, rows {rows}"))
     blocks.append(Fields(fields))
 
     # the result: the sample's combined value, or the single run's

@@ -46,6 +46,15 @@ def font_path(style="") -> Path:
     return Path(matplotlib.get_data_path()) / "fonts" / "ttf" / names[style]
 
 
+def _fit_left(document, text, width) -> str:
+    """Shorten text from the left ("…" first) to fit a width [mm]; a path keeps its end."""
+    if document.get_string_width(text) <= width:
+        return text
+    while len(text) > 1 and document.get_string_width("…" + text) > width:
+        text = text[1:]
+    return "…" + text
+
+
 def _document_class():
     from fpdf import FPDF
 
@@ -59,7 +68,8 @@ def _document_class():
             self.set_text_color(110, 110, 110)
             self.set_xy(self.l_margin, 7)
             self.cell(TEXT_WIDTH / 2, 4, self.report_title)
-            self.cell(TEXT_WIDTH / 2, 4, printable(self.report_source), align="R")
+            self.cell(TEXT_WIDTH / 2, 4, _fit_left(self, printable(self.report_source),
+                                                   TEXT_WIDTH / 2), align="R")
             self.set_draw_color(200, 200, 200)
             self.line(self.l_margin, 11.5, self.l_margin + TEXT_WIDTH, 11.5)
             self.set_text_color(0, 0, 0)
@@ -447,23 +457,24 @@ def _bullets(document, block):
 
 
 def _signature(document, block):
-    if _room(document) < 11:
+    if _room(document) < 9:
         document.add_page()
-    document.ln(1.5)
+    document.ln(1.0)
     top = document.get_y()
     half = TEXT_WIDTH / 2
-    document.set_font(_FONT, "", 8)
     document.set_draw_color(0, 0, 0)
     for column, role in enumerate(block.roles[:2]):
         x = document.l_margin + column * half
+        document.set_font(_FONT, "", 8)
         document.set_xy(x, top)
         document.cell(22, 6, f"{role}:")
         document.line(x + 22, top + 5, x + half - 30, top + 5)
         document.set_xy(x + half - 28, top)
         document.cell(10, 6, "Date:")
         document.line(x + half - 18, top + 5, x + half - 3, top + 5)
-    document.set_xy(document.l_margin, top + 7)
-    document.set_font(_FONT, "", 6.5)
-    document.set_text_color(110, 110, 110)
-    document.cell(TEXT_WIDTH, 3.5, "Name and signature", new_x="LMARGIN", new_y="NEXT", align="L")
-    document.set_text_color(0, 0, 0)
+        document.set_font(_FONT, "", 6)
+        document.set_text_color(110, 110, 110)
+        document.set_xy(x + 22, top + 5.2)
+        document.cell(half - 52, 2.6, "name and signature")
+        document.set_text_color(0, 0, 0)
+    document.set_xy(document.l_margin, top + 8)
