@@ -165,7 +165,10 @@ _RESULT_COLUMNS = (
 
 def neutralise_column(values) -> pd.Series:
     """Vectorised :func:`molid.safeio.neutralise_cell` for a column of text."""
-    text = pd.Series(values, dtype=object).astype(str)
+    if isinstance(values, pd.Series) and values.dtype == "str":
+        text = values.reset_index(drop=True)
+    else:
+        text = pd.Series(values, dtype=object).astype(str)
     starts = text.str.match(r"^[=+\-@\t\r]").to_numpy(dtype=bool)
     if not starts.any():
         return text
@@ -204,8 +207,7 @@ def csv_frame(result) -> pd.DataFrame:
     table = result.table
     n = len(table)
     user_columns = list(table.raw.columns)
-    frame = pd.DataFrame({column: neutralise_column(table.raw[column].to_numpy(dtype=object))
-                          for column in user_columns})
+    columns = {column: neutralise_column(table.raw[column].astype(str)) for column in user_columns}
     ok = result.ok
     value = result.molar_mass * _G
     u = result.u * _G
@@ -215,9 +217,10 @@ def csv_frame(result) -> pd.DataFrame:
     filled = np.where(np.isfinite(shares), shares, -1.0)
     best = filled.argmax(axis=0) if len(inputs) else np.zeros(n, dtype=int)
     best_share = filled[best, np.arange(n)] if len(inputs) else np.full(n, -1.0)
+    percent_text = np.array([f" {share}%" for share in range(101)], dtype=object)
     main = np.where(ok & (best_share >= 0),
-                    np.asarray(inputs, dtype=object)[best] + " "
-                    + np.char.mod("%.0f", np.round(best_share, 0)).astype(object) + "%", "")
+                    np.asarray(inputs, dtype=object)[best]
+                    + percent_text[np.clip(np.round(best_share), 0, 100).astype(int)], "")
     results = {
         "molar_mass_g_mol": value,
         "u_g_mol": u,
@@ -233,14 +236,19 @@ def csv_frame(result) -> pd.DataFrame:
     for name in _RESULT_COLUMNS:
         column = f"molid_{name}" if name in user_columns else name
         item = results[name]
-        frame[column] = neutralise_column(item) if name in ("error", "warnings") else item
+        columns[column] = neutralise_column(item) if name in ("error", "warnings") else item
     if result.ranking is not None:
         names, verdict, z = _top_candidates(result.ranking, n, CSV_TOP_CANDIDATES)
         for place in range(CSV_TOP_CANDIDATES):
-            frame[f"candidate_{place + 1}"] = neutralise_column(names[:, place])
-            frame[f"candidate_{place + 1}_verdict"] = verdict[:, place]
-            frame[f"candidate_{place + 1}_z"] = z[:, place]
-        frame["label_verdict"] = _label_verdicts(result.ranking, n)
+            columns[f"candidate_{place + 1}"] = neutralise_column(names[:, place])
+            columns[f"candidate_{place + 1}_verdict"] = verdict[:, place]
+            columns[f"candidate_{place + 1}_z"] = z[:, place]
+        columns["label_verdict"] = _label_verdicts(result.ranking, n)
+    columns = {key: (item.to_numpy() if isinstance(item, pd.Series) and item.dtype != "str"
+                     and not isinstance(item.dtype, pd.Int64Dtype) else item)
+               for key, item in columns.items()}
+    frame = pd.DataFrame({key: (item.reset_index(drop=True) if isinstance(item, pd.Series)
+                                else item) for key, item in columns.items()})
     frame.columns = list(neutralise_column(list(frame.columns)))
     return frame
 
@@ -353,8 +361,9 @@ def to_table(result, top: int = 5) -> str:
                              f"{'if it is this gas: M ± U':<24} {'z':>8}  verdict")
             for item in entry["candidates"][:top]:
                 z = f"{item['z']:+8.2f}" if item["z"] is not None else f"{'-':>8}"
+                u_item = item["measured"]["u"]
                 measured = format_value(item["measured"]["value"],
-                                        COVERAGE_FACTOR * item["measured"]["u"])
+                                        COVERAGE_FACTOR * u_item if u_item is not None else np.nan)
                 lines.append(f"    {item['rank']:>4}  {_cut(item['name'], 24):<24} "
                              f"{item['molar_mass']:>10.3f}  {measured:<24} {z}  {item['verdict']}")
             label = entry.get("label")

@@ -75,7 +75,8 @@ class Identification:
     @property
     def ok(self) -> np.ndarray:
         """True for runs with a result."""
-        return np.array([not problems for problems in self.errors], dtype=bool)
+        return np.fromiter((not problems for problems in self.errors), dtype=bool,
+                           count=len(self.errors))
 
     @property
     def U(self) -> np.ndarray:  # noqa: N802 - the GUM's symbol
@@ -122,35 +123,40 @@ def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
     profile = profile or load_profile()
     values, uncertainties, static = model_inputs(table, profile)
     propagation = propagate(measurement_model, values, uncertainties, static, output="molar_mass")
-    errors = [list(row) for row in table.errors]
-    warnings = [list(row) for row in table.warnings]
-    ok = np.array([not row for row in errors], dtype=bool)
+    # Shallow copies: a row that gets a new problem gets a new list, the table's stay as read.
+    errors = list(table.errors)
+    warnings = list(table.warnings)
+    ok = table.ok
     extras = propagation.extras
     molar_mass = propagation.value
     rows = table.row_numbers
-    for index in np.flatnonzero(ok & (extras["dry_pressure"] <= 0)):
-        errors[index].append(
-            f"row {rows[index]}: the water vapour pressure at this temperature "
-            f"({(table.values['pressure'][index] - extras['dry_pressure'][index]) / 1000:.3g} kPa) "
-            "is not below the total pressure; a wet gas cannot be at these conditions"
-        )
-    ok = np.array([not row for row in errors], dtype=bool)
-    for index in np.flatnonzero(ok & (extras["gas_mass"] <= 0)):
-        errors[index].append(
-            f"row {rows[index]}: with the displaced air added back, the gas mass comes out "
-            f"{extras['gas_mass'][index] * 1e3:.4g} g, which cannot be; check the method "
-            "(evacuated-bulb, air-tare-bulb or syringe), the readings and the volume"
-        )
-    ok = np.array([not row for row in errors], dtype=bool)
+    u = propagation.standard_uncertainty
+
+    def add(mask, message):
+        for index in np.flatnonzero(mask):
+            errors[index] = errors[index] + [message(index)]
+        ok[mask] = False
+
+    add(ok & (extras["dry_pressure"] <= 0), lambda index: (
+        f"row {rows[index]}: the water vapour pressure at this temperature "
+        f"({(table.values['pressure'][index] - extras['dry_pressure'][index]) / 1000:.3g} kPa) "
+        "is not below the total pressure; a wet gas cannot be at these conditions"))
+    add(ok & (extras["gas_mass"] <= 0), lambda index: (
+        f"row {rows[index]}: with the displaced air added back, the gas mass comes out "
+        f"{extras['gas_mass'][index] * 1e3:.4g} g, which cannot be; check the method "
+        "(evacuated-bulb, air-tare-bulb or syringe), the readings and the volume"))
+    add(ok & ~(np.isfinite(molar_mass) & np.isfinite(u)), lambda index: (
+        f"row {rows[index]}: the result is not a finite number (a value too large or too "
+        "small for the arithmetic); check the numbers and their units"))
     light = ok & (molar_mass < MOLAR_MASS_FLOOR)
     heavy = ok & (molar_mass > MOLAR_MASS_CEILING)
     for index in np.flatnonzero(light | heavy):
         density = extras["gas_mass"][index] / table.values["volume"][index]
         side = "lighter than hydrogen" if light[index] else "heavier than any common gas or vapour"
-        warnings[index].append(
+        warnings[index] = warnings[index] + [
             f"the gas density {density:.4g} kg/m³ implies {molar_mass[index] * 1e3:.4g} g/mol, "
             f"{side}; check the mass and volume units and the method"
-        )
+        ]
     return propagation, errors, warnings
 
 

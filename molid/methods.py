@@ -84,9 +84,10 @@ INPUT_LABELS = {
 
 def method_codes(methods) -> np.ndarray:
     """Integer codes for method names (-1 where unknown)."""
-    lookup = np.vectorize(lambda name: METHOD_CODES.get(name, -1), otypes=[int])
-    methods = np.asarray(methods, dtype=object)
-    return lookup(methods) if methods.size else np.zeros(0, dtype=int)
+    import pandas as pd
+
+    codes = pd.Series(np.asarray(methods, dtype=object), dtype=object).map(METHOD_CODES)
+    return codes.fillna(-1).to_numpy(dtype=int)
 
 
 def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):

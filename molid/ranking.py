@@ -271,19 +271,23 @@ class Ranking:
         items = []
         for rank, j in enumerate(order, start=1):
             z_value = float(z[j]) if np.isfinite(z[j]) else None
+            Z = float(block["Z"][k, j])
             item = {
                 "rank": rank,
                 "name": self._names[j],
                 "formula": self._formulas[j] or None,
                 "molar_mass": float(self._molar_mass[j] * _G),
-                "measured": {"value": float(block["measured"][k, j] * _G),
-                             "u": float(block["u_total"][k, j] * _G)},
+                "measured": {"value": _finite(block["measured"][k, j] * _G),
+                             "u": _finite(block["u_total"][k, j] * _G)},
                 "z": z_value,
                 "verdict": VERDICTS[codes[j]],
-                "Z": float(block["Z"][k, j]),
+                "Z": _finite(Z),
                 "model": "virial, Tsonopoulos" if self._has[j] else "ideal gas (no critical data)",
             }
-            if block["condenses"][k, j]:
+            if not np.isfinite(Z):
+                item["note"] = ("the virial equation has no solution at this pressure: far "
+                                "outside its range for this substance")
+            elif block["condenses"][k, j]:
                 item["note"] = (f"its vapour pressure here is about "
                                 f"{block['saturation_pressure'][k, j] / 1000:.3g} kPa, below the "
                                 "gas pressure: it would condense")
@@ -425,6 +429,28 @@ def _evaluate_in_blocks(molar_mass, sensitivities, uncertainties, temperature, p
     return out
 
 
+class _LazyBudget:
+    """Run → (largest budget input, its share); built on demand, not for every run."""
+
+    def __init__(self, index, best, share, names):
+        self._position = None
+        self._index, self._best, self._share, self._names = index, best, share, names
+
+    def get(self, run):
+        if self._position is None:
+            self._position = {int(i): k for k, i in enumerate(self._index)}
+        k = self._position.get(int(run))
+        if k is None or self._share[k] < 0:
+            return None
+        return self._names[self._best[k]], float(self._share[k])
+
+
+def _finite(value):
+    """A float, or None where it is not finite (JSON has no NaN)."""
+    value = float(value)
+    return value if np.isfinite(value) else None
+
+
 def _group_matrix(codes, groups, size):
     from scipy.sparse import csr_matrix
 
@@ -518,8 +544,7 @@ def rank_identification(result, library=None):
         filled = np.where(np.isfinite(shares[:, index]), shares[:, index], -1.0)
         best = filled.argmax(axis=0)
         best_share = filled[best, np.arange(len(index))]
-        run_budget = {int(i): (input_names[b], float(v)) for i, b, v in zip(index, best, best_share)
-                      if v >= 0}
+        run_budget = _LazyBudget(index, best, best_share, input_names)
     sample_budget = {}
     if names and shares is not None:
         grouped = pd.DataFrame(shares[:, index].T, columns=input_names)

@@ -178,7 +178,8 @@ class RunTable:
     @property
     def ok(self) -> np.ndarray:
         """True for rows without errors."""
-        return np.array([not problems for problems in self.errors], dtype=bool)
+        return np.fromiter((not problems for problems in self.errors), dtype=bool,
+                           count=len(self.errors))
 
 
 @dataclass(frozen=True)
@@ -314,10 +315,26 @@ def _numbers(column: pd.Series, decimal_comma: bool) -> tuple[np.ndarray, np.nda
     blank = (text == "").to_numpy()
     if decimal_comma:
         text = text.str.replace(",", ".", regex=False)
-    values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
+    values = _fast_floats(text, blank)
+    if values is None:  # some cell is not a number: parse cell by cell, coercing the bad ones
+        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
     # "nan" parses as NaN; a user who typed it gave no number, so it counts as bad
     not_number = ~blank & np.isnan(values)
     return values, blank, not_number
+
+
+def _fast_floats(text: pd.Series, blank: np.ndarray):
+    """All cells as floats by Arrow's C++ cast, or None when any non-blank cell is not a number."""
+    try:
+        import pyarrow as pa
+        import pyarrow.compute as pc
+
+        array = pa.array(text.to_numpy(dtype=object), type=pa.string()) \
+            if not hasattr(text.array, "_pa_array") else text.array._pa_array
+        array = pc.if_else(pa.array(blank), pa.scalar(None, pa.string()), array)
+        return np.asarray(pc.cast(array, pa.float64()).to_numpy(zero_copy_only=False), dtype=float)
+    except Exception:  # ArrowInvalid for a bad cell; anything else: take the careful path
+        return None
 
 
 class _Problems:
@@ -441,8 +458,12 @@ def parse_runs(
         lambda i: f"column 'run': duplicate run id '{run_values[i]}' (first used in row "
         f"{first_use[i]}); run ids must be unique",
     )
-    method = cells("method").str.strip().str.lower().str.replace(r"[\s_]+", "-", regex=True)
-    method_values = method.to_numpy(dtype=object)
+    # Few distinct spellings: normalise each once, then map back.
+    codes, spellings = pd.factorize(cells("method"))
+    normalised = np.array([re.sub(r"[\s_]+", "-", str(item).strip().lower()) for item in spellings]
+                          + [""], dtype=object)
+    method_values = normalised[codes]
+    method = pd.Series(method_values, dtype=object)
     text["method"] = pd.Series(np.where(method_values == "", None, method_values), dtype=object)
     unknown_method = ~method.isin(list(METHODS)).to_numpy()
     method_text = cells("method").to_numpy()
