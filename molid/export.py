@@ -322,7 +322,8 @@ def to_table(result, top: int = 5) -> str:
     """A plain-text report for a terminal."""
     table = result.table
     lines = []
-    header = f"{'run':<12} {'sample':<10} {'method':<15} {'M / (g/mol), U (k=2)':<26} {'best candidates'}"
+    header = (f"{'run':<12} {'sample':<10} {'method':<15} {'M ideal gas ± U (k=2)':<26} "
+              "best two candidates (M·Z of each)")
     lines.append(header)
     lines.append("-" * len(header))
     for index in range(len(table)):
@@ -335,10 +336,11 @@ def to_table(result, top: int = 5) -> str:
         value = format_value(result.molar_mass[index] * _G, result.U[index] * _G)
         best = ""
         if result.ranking is not None:
-            items = result.ranking.run_candidates(index, top)
-            best = ", ".join(f"{item['name']} ({item['verdict']}, z={item['z']:+.1f})"
-                             if item["z"] is not None else f"{item['name']} ({item['verdict']})"
-                             for item in items[:top])
+            # The run line names the two best; samples below list the top N in full.
+            items = result.ranking.run_candidates(index, min(top, 2))
+            best = "; ".join(f"{item['name']} {item['verdict']} (z {item['z']:+.1f})"
+                             if item["z"] is not None else f"{item['name']} {item['verdict']}"
+                             for item in items)
         lines.append(f"{run:<12} {sample:<10} {method:<15} {value:<26} {best}")
     document = None
     if result.sample_runs:

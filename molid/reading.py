@@ -30,6 +30,7 @@ __all__ = [
     "InputError",
     "RunIds",
     "RunTable",
+    "first_uses",
     "read_raw",
     "parse_runs",
     "read_runs",
@@ -323,6 +324,16 @@ def _numbers(column: pd.Series, decimal_comma: bool) -> tuple[np.ndarray, np.nda
     return values, blank, not_number
 
 
+def first_uses(raw: pd.DataFrame, registry: RunIds, first_row: int) -> np.ndarray:
+    """Duplicate run ids of a chunk of raw rows: the row that first used each id, 0 where new."""
+    column = next((name for name in raw.columns if _parse_header(name).name == "run"), None)
+    if column is None:
+        return np.zeros(len(raw), dtype=np.int64)
+    ids = raw[column].astype(str).str.strip().to_numpy(dtype=object)
+    ids = np.where(ids == "", None, ids)
+    return registry.check(ids, np.arange(first_row, first_row + len(raw)))
+
+
 def _fast_floats(text: pd.Series, blank: np.ndarray):
     """All cells as floats by Arrow's C++ cast, or None when any non-blank cell is not a number."""
     try:
@@ -376,6 +387,7 @@ def parse_runs(
     notes: list | None = None,
     source: str = "",
     require_rows: bool = True,
+    first_use_of_rows=None,
 ) -> RunTable:
     """Validate a table of text cells and convert its measured columns to SI.
 
@@ -398,6 +410,9 @@ def parse_runs(
         The file's name, for messages.
     require_rows : bool
         Raise when no data rows remain (False for later chunks of a long file).
+    first_use_of_rows : array_like of int, optional
+        For each row of ``raw``, the row that first used its run id (0 where new),
+        when the caller has checked duplicates itself (see :func:`first_uses`).
 
     Returns
     -------
@@ -450,9 +465,12 @@ def parse_runs(
             text[name] = pd.Series([None] * n, dtype=object)
     run = text["run"]
     problems.error(run.isna().to_numpy(), lambda i: "column 'run': the run id is empty; give each run a unique id")
-    registry_of_ids = seen_runs if seen_runs is not None else RunIds()
     run_values = run.to_numpy(dtype=object)
-    first_use = registry_of_ids.check(run_values, row_numbers)
+    if first_use_of_rows is not None:  # duplicates already found by the caller, row by row
+        first_use = np.asarray(first_use_of_rows)[~blank]
+    else:
+        registry_of_ids = seen_runs if seen_runs is not None else RunIds()
+        first_use = registry_of_ids.check(run_values, row_numbers)
     problems.error(
         first_use > 0,
         lambda i: f"column 'run': duplicate run id '{run_values[i]}' (first used in row "

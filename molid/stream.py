@@ -16,6 +16,7 @@ import os
 import sys
 import tempfile
 import time
+from collections import deque
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -24,7 +25,7 @@ import pandas as pd
 
 from molid.identify import Identification, evaluate_runs
 from molid.instruments import InstrumentProfile, load_profile
-from molid.reading import InputError, RunIds, _sniff_separator, parse_runs
+from molid.reading import InputError, RunIds, _sniff_separator, first_uses, parse_runs
 from molid.uncertainty import budget_percent
 
 __all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv"]
@@ -73,10 +74,11 @@ def _check_utf8(path) -> str:
 
 
 def _merge_notes(collected: dict) -> list:
-    """Notes of all chunks, once each; 'every row' gives way to 'some rows' when chunks differ."""
+    """Merge the notes of all chunks: once each, "some rows" where chunks differ."""
     merged = []
     for note in collected:
-        if " for every row" in note and note.replace(" for every row", " for some rows") in collected:
+        some = note.replace(" for every row", " for some rows")
+        if some != note and some in collected:
             continue
         merged.append(note)
     return merged
@@ -108,7 +110,7 @@ class _Progress:
 
 def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path | None = None,
                     library=None, chunk_rows: int = DEFAULT_CHUNK_ROWS,
-                    progress: bool | None = None) -> StreamSummary:
+                    progress: bool | None = None, workers: int | None = None) -> StreamSummary:
     """Analyse a CSV run file chunk by chunk and write the per-run CSV.
 
     Parameters
@@ -125,6 +127,9 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
         Rows per chunk.
     progress : bool, optional
         Show a progress line on stderr; by default only when stderr is a terminal.
+    workers : int, optional
+        Processes that analyse chunks in parallel (default: up to 2, the cores this
+        process may use). The output is the same for any number.
 
     Returns
     -------
@@ -136,9 +141,7 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
     InputError
         When the file cannot be read or has no data rows.
     """
-    from molid.export import to_csv
     from molid.library import load_library
-    from molid.ranking import rank_identification
 
     started = time.monotonic()
     if profile is None or isinstance(profile, (str, Path)):
@@ -163,8 +166,11 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
     summary = StreamSummary()
     seen = RunIds()
     output = Path(output)
+    decimal_comma = separator in (";", "\t")
     handle, temporary = tempfile.mkstemp(prefix=f".{output.name}.", suffix=".part",
                                          dir=output.parent)
+    workers = _worker_count(workers)
+    pool = None
     try:
         umask = os.umask(0)
         os.umask(umask)
@@ -173,29 +179,40 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
             reader = pd.read_csv(path, sep=separator, dtype=str, keep_default_na=False,
                                  skip_blank_lines=False, skipinitialspace=True,
                                  encoding=encoding, chunksize=chunk_rows)
+            if workers > 1:
+                pool = _start_pool(workers, profile, library)
+            pending: deque = deque()
+
+            def collect(outcome):
+                text, runs, errors, n_errors, n_warnings, chunk_notes = outcome
+                if runs == 0:
+                    return
+                if summary.runs and text:
+                    text = text.split("\n", 1)[1]  # every chunk's CSV starts with the header
+                sink.write(text)
+                summary.runs += runs
+                summary.rows_with_errors += n_errors
+                summary.rows_with_warnings += n_warnings
+                summary.errors.extend(errors[: _MAX_LISTED - len(summary.errors)])
+                for note in chunk_notes:
+                    notes.setdefault(note, None)
+                progress_line.update(summary.runs)
+
             first_row = 2
             try:
                 for raw in reader:
                     raw.columns = [str(column) for column in raw.columns]
-                    table = parse_runs(raw, decimal_comma=separator in (";", "\t"),
-                                       profile=profile, first_row=first_row, seen_runs=seen,
-                                       source=str(path), require_rows=False)
+                    first_use = first_uses(raw, seen, first_row)
+                    job = (raw, decimal_comma, first_row, first_use, str(path))
                     first_row += len(raw)
-                    if len(table) == 0:
+                    if pool is None:
+                        collect(_chunk_job(job, profile, library))
                         continue
-                    result = _evaluate_chunk(table, profile)
-                    rank_identification(result, library=library)
-                    sink.write(to_csv(result, header=summary.runs == 0))
-                    summary.runs += len(table)
-                    bad = [row for row in result.errors if row]
-                    summary.rows_with_errors += len(bad)
-                    summary.rows_with_warnings += sum(1 for row in result.warnings if row)
-                    for row in bad:
-                        if len(summary.errors) < _MAX_LISTED:
-                            summary.errors.append("; ".join(row))
-                    for note in table.notes:
-                        notes.setdefault(note, None)
-                    progress_line.update(summary.runs)
+                    pending.append(pool.submit(_chunk_job, job))
+                    while len(pending) > workers:  # bounded: a few chunks in flight at most
+                        collect(pending.popleft().result())
+                while pending:
+                    collect(pending.popleft().result())
             except pd.errors.EmptyDataError:
                 raise InputError(f"{path}: no header row found") from None
             except pd.errors.ParserError as error:
@@ -211,12 +228,59 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
         except FileNotFoundError:
             pass
         raise
+    finally:
+        if pool is not None:
+            pool.shutdown(wait=True, cancel_futures=True)
     progress_line.update(summary.runs, final=True)
     summary.notes = _merge_notes(notes)
     summary.notes.append("replicates were not combined: a large file written straight to CSV "
                          "gives one row per run")
     summary.seconds = time.monotonic() - started
     return summary
+
+
+def _worker_count(requested) -> int:
+    if requested is not None:
+        return max(1, int(requested))
+    return max(1, min(2, len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity")
+                      else (os.cpu_count() or 1)))
+
+
+_WORKER_STATE: dict = {}
+
+
+def _initialise_worker(profile, library):
+    _WORKER_STATE["profile"] = profile
+    _WORKER_STATE["library"] = library
+
+
+def _start_pool(workers, profile, library):
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    methods = multiprocessing.get_all_start_methods()
+    context = multiprocessing.get_context("fork" if "fork" in methods else "spawn")
+    return ProcessPoolExecutor(max_workers=workers, mp_context=context,
+                               initializer=_initialise_worker, initargs=(profile, library))
+
+
+def _chunk_job(job, profile=None, library=None):
+    """Validate, evaluate and rank one chunk; return its CSV text and what the summary needs."""
+    from molid.export import to_csv
+    from molid.ranking import rank_identification
+
+    profile = profile if profile is not None else _WORKER_STATE["profile"]
+    library = library if library is not None else _WORKER_STATE["library"]
+    raw, decimal_comma, first_row, first_use, source = job
+    table = parse_runs(raw, decimal_comma=decimal_comma, profile=profile, first_row=first_row,
+                       source=source, require_rows=False, first_use_of_rows=first_use)
+    if len(table) == 0:
+        return "", 0, [], 0, 0, []
+    result = _evaluate_chunk(table, profile)
+    rank_identification(result, library=library)
+    bad = [row for row in result.errors if row]
+    return (to_csv(result, header=True), len(table), ["; ".join(row) for row in bad[:_MAX_LISTED]],
+            len(bad), sum(1 for row in result.warnings if row), list(table.notes))
 
 
 def _evaluate_chunk(table, profile) -> Identification:

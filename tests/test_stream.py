@@ -27,10 +27,11 @@ def run_file(tmp_path_factory):
     return path
 
 
-def test_chunked_output_equals_in_memory_output(run_file, tmp_path):
-    """Streaming in chunks of 700 rows writes exactly the bytes the in-memory path writes."""
+@pytest.mark.parametrize("workers", [1, 2])
+def test_chunked_output_equals_in_memory_output(run_file, tmp_path, workers):
+    """Chunks of 700 rows, in one process or two, write exactly the in-memory path's bytes."""
     streamed = tmp_path / "streamed.csv"
-    summary = identify_to_csv(run_file, streamed, chunk_rows=700, progress=False)
+    summary = identify_to_csv(run_file, streamed, chunk_rows=700, progress=False, workers=workers)
     in_memory = to_csv(identify(run_file))
     assert streamed.read_text(encoding="utf-8") == in_memory
     assert summary.runs == 2500
@@ -39,7 +40,8 @@ def test_chunked_output_equals_in_memory_output(run_file, tmp_path):
 
 def test_duplicate_found_across_chunks(run_file, tmp_path):
     """A run id reused 1,500 rows later is an error naming the first row (header = row 1)."""
-    summary = identify_to_csv(run_file, tmp_path / "out.csv", chunk_rows=500, progress=False)
+    summary = identify_to_csv(run_file, tmp_path / "out.csv", chunk_rows=500, progress=False,
+                              workers=2)
     duplicate = [message for message in summary.errors if "duplicate" in message]
     assert duplicate == ["row 1502, column 'run': duplicate run id 'R0000003' (first used in row 5);"
                          " run ids must be unique"]
