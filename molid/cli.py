@@ -50,7 +50,7 @@ def _positive_int(text):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    """The argument parser (exposed for documentation and tests)."""
+    """Build the argument parser (exposed for documentation and tests)."""
     parser = _Parser(
         prog="molid",
         description="Molar mass of a weighed gas with a GUM uncertainty budget, and which "
@@ -139,7 +139,7 @@ def _identify(args) -> int:
 
 
 def _is_large_csv(name) -> bool:
-    """A CSV file with more rows than one chunk: analysed in chunks, straight to the CSV."""
+    """Tell whether a file is a CSV longer than one chunk (then analysed in chunks)."""
     from pathlib import Path
 
     from molid.stream import DEFAULT_CHUNK_ROWS, count_data_lines

@@ -32,7 +32,7 @@ _G = 1e3  # kg/mol → g/mol
 
 
 def _float(value):
-    """A JSON-safe float (None for NaN/inf)."""
+    """Return a JSON-safe float (None for NaN/inf)."""
     if value is None:
         return None
     value = float(value)
@@ -40,7 +40,7 @@ def _float(value):
 
 
 def molar_mass_block(value, u, model="ideal gas"):
-    """The JSON ``molar_mass`` object from a value and standard uncertainty [kg/mol]."""
+    """Build the JSON ``molar_mass`` object from a value and its u [kg/mol]."""
     if value is None or not np.isfinite(value):
         return None
     expanded = COVERAGE_FACTOR * u
@@ -88,7 +88,7 @@ def _budget_list(result, index):
 
 
 def to_document(result, top: int | None = None) -> dict:
-    """The JSON document of an identification, as Python objects.
+    """Build the JSON document of an identification, as Python objects.
 
     Parameters
     ----------
@@ -153,7 +153,7 @@ def to_document(result, top: int | None = None) -> dict:
 
 
 def to_json(result, top: int | None = None) -> str:
-    """The JSON document as text (deterministic: same input, same bytes)."""
+    """Return the JSON document as text (deterministic: same input, same bytes)."""
     return json.dumps(to_document(result, top), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
@@ -203,7 +203,7 @@ def _top_candidates(ranking, n_rows, places):
 
 
 def csv_frame(result) -> pd.DataFrame:
-    """The per-run CSV as a DataFrame: the user's cells, then the results (vectorised)."""
+    """Build the per-run CSV as a DataFrame: the user's cells, then the results."""
     table = result.table
     n = len(table)
     user_columns = list(table.raw.columns)
@@ -283,7 +283,7 @@ def csv_rows(result):
 
 
 def to_csv(result, header: bool = True) -> str:
-    """The per-run CSV as text (every text cell quoted, numbers bare, RFC 4180)."""
+    """Return the per-run CSV as text (text cells quoted, numbers bare, RFC 4180)."""
     import io
 
     import pyarrow as pa
@@ -319,7 +319,7 @@ def _label_text(label) -> str:
 
 
 def to_table(result, top: int = 5) -> str:
-    """A plain-text report for a terminal."""
+    """Format a plain-text report for a terminal."""
     table = result.table
     lines = []
     header = (f"{'run':<12} {'sample':<10} {'method':<15} {'M ideal gas ± U (k=2)':<26} "

@@ -181,7 +181,7 @@ def _sample_results(table: RunTable, propagation, errors):
     boundaries = np.flatnonzero(np.diff(good_codes[order])) + 1
     run_groups = np.split(runs[has_sample][good][order], boundaries)
     code_groups = np.split(good_codes[order], boundaries)
-    for members, member_codes in zip(run_groups, code_groups):
+    for members, member_codes in zip(run_groups, code_groups, strict=True):
         if len(members):
             sample_runs[names[member_codes[0]]] = members.tolist()
     for index in np.flatnonzero(has_sample & ~ok):
@@ -232,7 +232,7 @@ def _sample_results(table: RunTable, propagation, errors):
 
 
 def propagation_values(propagation, table: RunTable) -> dict:
-    """The model-input values behind a propagation (for shared-input detection)."""
+    """Return the model-input values behind a propagation (for shared inputs)."""
     values = {name: table.values[name] for name in MODEL_INPUTS[:9]}
     n = len(table)
     values["air_density_formula"] = np.zeros(n)

@@ -62,7 +62,7 @@ class ProfileError(ValueError):
 def type_b_standard_uncertainty(
     standard=0.0, half_width=0.0, readability=0.0, expanded=0.0, coverage_factor=2.0
 ):
-    """Combine Type B information about one instrument into a standard uncertainty.
+    r"""Combine Type B information about one instrument into a standard uncertainty.
 
     Parameters
     ----------
@@ -84,7 +84,7 @@ def type_b_standard_uncertainty(
 
     Notes
     -----
-    .. math:: u^2 = u_s^2 + (a/\\sqrt{3})^2 + (d/\\sqrt{12})^2 + (U/k)^2
+    .. math:: u^2 = u_s^2 + (a/\sqrt{3})^2 + (d/\sqrt{12})^2 + (U/k)^2
 
     References
     ----------
@@ -115,7 +115,7 @@ class UncertaintyRule:
     description: str = ""
 
     def apply(self, values_si) -> np.ndarray:
-        """Standard uncertainty [SI] for the given values [SI]."""
+        """Return the standard uncertainty [SI] for the given values [SI]."""
         values_si = np.asarray(values_si, dtype=float)
         return np.hypot(self.absolute, self.relative * np.abs(values_si))
 
@@ -130,7 +130,7 @@ class InstrumentProfile:
     source: str
 
     def rule(self, name: str) -> UncertaintyRule:
-        """The rule for an input, falling back from ``mass_tare`` to ``mass``."""
+        """Return the rule for an input, falling back from ``mass_tare`` to ``mass``."""
         if name in self.rules:
             return self.rules[name]
         if name.startswith("mass_") and "mass" in self.rules:

@@ -91,7 +91,7 @@ def method_codes(methods) -> np.ndarray:
 
 
 def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
-    """Mass of gas in the vessel from two balance readings [kg].
+    r"""Mass of gas in the vessel from two balance readings [kg].
 
     Parameters
     ----------
@@ -111,7 +111,7 @@ def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
 
     Notes
     -----
-    .. math:: m = (I_1 - I_0)\\left(1 - \\frac{\\rho_a}{\\rho_c}\\right) + \\beta\\,\\rho_a V
+    .. math:: m = (I_1 - I_0)\left(1 - \frac{\rho_a}{\rho_c}\right) + \beta\,\rho_a V
 
     with β = 0 for an evacuated bulb and 1 otherwise, and ρ_c = 8000 kg/m³.
 
@@ -187,7 +187,7 @@ def measurement_model(
     air_temperature_given,
     air_pressure_given,
 ):
-    """The full measurement model: every input to the ideal-gas molar mass.
+    """Evaluate the full measurement model: every input to the ideal-gas molar mass.
 
     Parameters
     ----------

@@ -1,4 +1,4 @@
-"""Per-candidate evaluation and ranking: which substances can the weighed gas be?
+"""Per-candidate evaluation and ranking: which substances the weighed gas can be.
 
 For every candidate the run is re-evaluated under that candidate's own
 non-ideality: if the gas is candidate c, its molar mass is ``M·Z_c`` where M is
@@ -58,7 +58,7 @@ _G = 1e3
 
 
 def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, pressure, library):
-    """Each run's molar mass as implied by each candidate's real-gas behaviour.
+    r"""Each run's molar mass as implied by each candidate's real-gas behaviour.
 
     Parameters
     ----------
@@ -87,13 +87,13 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
     The virial equation truncated after B in its density (Leiden) form,
     solved for Z at the measured pressure:
 
-    .. math:: Z = \\tfrac{1}{2}\\left(1 + \\sqrt{1 + 4x}\\right), \\qquad x = \\frac{Bp}{RT},
+    .. math:: Z = \tfrac{1}{2}\left(1 + \sqrt{1 + 4x}\right), \qquad x = \frac{Bp}{RT},
 
     which leaves a smaller truncation error than the pressure form
     :math:`Z = 1 + x` (Prausnitz et al. 1999, ch. 5). The sensitivities of
-    :math:`MZ` are :math:`Z\\,\\partial M/\\partial x_i` for every input, plus
-    :math:`M\\,\\partial Z/\\partial T` for temperature and
-    :math:`M\\,\\partial Z/\\partial p` for pressure; the model term combines
+    :math:`MZ` are :math:`Z\,\partial M/\partial x_i` for every input, plus
+    :math:`M\,\partial Z/\partial T` for temperature and
+    :math:`M\,\partial Z/\partial p` for pressure; the model term combines
     u(B) from the correlation with the truncation term of
     :func:`molid.realgas.virial_truncation_uncertainty`.
 
@@ -446,7 +446,7 @@ class _LazyBudget:
 
 
 def _finite(value):
-    """A float, or None where it is not finite (JSON has no NaN)."""
+    """Return a float, or None where it is not finite (JSON has no NaN)."""
     value = float(value)
     return value if np.isfinite(value) else None
 
@@ -559,7 +559,8 @@ def rank_identification(result, library=None):
 
     expected = pd.Series(table.text["expected"].to_numpy(dtype=object)[index], dtype=object)
     matches = {text: find_candidate(library, text) for text in expected.dropna().unique()}
-    labels = {int(i): (text, matches[text]) for i, text in zip(index, expected) if text is not None}
+    labels = {int(i): (text, matches[text])
+              for i, text in zip(index, expected, strict=True) if text is not None}
     sample_labels = {}
     if names:
         label_frame = pd.DataFrame({"sample": sample_ids, "expected": expected})
@@ -574,7 +575,7 @@ def rank_identification(result, library=None):
 
 
 def candidate_frame(ranking, index, top=None) -> pd.DataFrame:
-    """The ranked candidates of one run as a DataFrame (for notebooks)."""
+    """Return the ranked candidates of one run as a DataFrame (for notebooks)."""
     items = ranking.run_candidates(index, top)
     return pd.DataFrame([{**item, "measured": item["measured"]["value"],
                           "u": item["measured"]["u"]} for item in items])

@@ -464,7 +464,8 @@ def parse_runs(
         else:
             text[name] = pd.Series([None] * n, dtype=object)
     run = text["run"]
-    problems.error(run.isna().to_numpy(), lambda i: "column 'run': the run id is empty; give each run a unique id")
+    problems.error(run.isna().to_numpy(),
+                   lambda i: "column 'run': the run id is empty; give each run a unique id")
     run_values = run.to_numpy(dtype=object)
     if first_use_of_rows is not None:  # duplicates already found by the caller, row by row
         first_use = np.asarray(first_use_of_rows)[~blank]

@@ -94,12 +94,12 @@ def write_atomic(path, data: bytes | str) -> None:
 
 
 def neutralise_cell(value):
-    """Make a text cell safe for a spreadsheet; numbers (even negative) stay numbers.
+    r"""Make a text cell safe for a spreadsheet; numbers (even negative) stay numbers.
 
     Examples
     --------
     >>> neutralise_cell('=HYPERLINK("x")')
-    '\\'=HYPERLINK("x")'
+    '\'=HYPERLINK("x")'
     >>> neutralise_cell("-0.25"), neutralise_cell(-0.25)
     ('-0.25', -0.25)
     """

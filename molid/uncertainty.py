@@ -77,7 +77,7 @@ class Propagation:
 
 
 def complex_step_jacobian(model, values: dict, static: dict | None = None, output: str | None = None):
-    """Evaluate a model and its derivatives with respect to every input by complex step.
+    r"""Evaluate a model and its derivatives with respect to every input by complex step.
 
     Parameters
     ----------
@@ -104,7 +104,7 @@ def complex_step_jacobian(model, values: dict, static: dict | None = None, outpu
 
     Notes
     -----
-    .. math:: \\frac{\\partial f}{\\partial x_j} = \\frac{\\operatorname{Im} f(x + i h e_j)}{h} + O(h^2)
+    .. math:: \frac{\partial f}{\partial x_j} = \frac{\operatorname{Im} f(x + i h e_j)}{h} + O(h^2)
 
     All inputs are perturbed at once along a leading axis of length m (one row
     per input), so the model is called a single time on arrays of shape (m, n).
@@ -149,7 +149,7 @@ def complex_step_jacobian(model, values: dict, static: dict | None = None, outpu
 
 def propagate(model, values: dict, uncertainties: dict, static: dict | None = None,
               output: str | None = None) -> Propagation:
-    """Propagate standard uncertainties through a model (GUM law of propagation).
+    r"""Propagate standard uncertainties through a model (GUM law of propagation).
 
     Parameters
     ----------
@@ -169,7 +169,7 @@ def propagate(model, values: dict, uncertainties: dict, static: dict | None = No
 
     Notes
     -----
-    .. math:: u_c^2(y) = \\sum_i \\left(\\frac{\\partial f}{\\partial x_i}\\right)^2 u^2(x_i)
+    .. math:: u_c^2(y) = \sum_i \left(\frac{\partial f}{\partial x_i}\right)^2 u^2(x_i)
 
     (GUM eq. 10, uncorrelated inputs).
 

@@ -15,6 +15,6 @@ REFERENCE_FILE = Path(__file__).with_name("reference_values.toml")
 
 @pytest.fixture(scope="session")
 def reference():
-    """The reference values with their provenance (tests/reference_values.toml)."""
+    """Load the reference values with their provenance (tests/reference_values.toml)."""
     with REFERENCE_FILE.open("rb") as stream:
         return tomllib.load(stream)

@@ -119,7 +119,7 @@ def _simulate_class(rng, runs, fluid_choices, u_mass, u_temperature, u_pressure,
 
 
 def test_coverage_of_k2_intervals(reference):
-    """k = 2 intervals cover the ideal-gas molar mass about 95 % of the time (GUM Table G.1)."""
+    """K = 2 intervals cover the ideal-gas molar mass about 95 % of the time (GUM Table G.1)."""
     entry = reference["measurement"]["coverage"]
     rng = np.random.default_rng(20261201)
     frame, truth = _simulate_class(rng, entry["runs"], ["Argon", "Nitrogen", "Helium", "Neon"],

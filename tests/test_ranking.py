@@ -173,7 +173,7 @@ def test_candidate_without_critical_data_is_ranked_as_ideal_gas():
 
 
 def test_verdict_thresholds():
-    """consistent |z| <= 2, marginal <= 3, excluded > 3, condenses overrides."""
+    """Consistent |z| <= 2, marginal <= 3, excluded > 3, condenses overrides."""
     z = np.array([0.0, 2.0, -2.01, 3.0, 3.01, -9.0, 0.0])
     condenses = np.array([False] * 6 + [True])
     assert [VERDICTS[c] for c in verdicts(z, condenses)] == [

@@ -51,6 +51,6 @@ def test_runs_with_errors_are_left_out():
 
 
 def test_chi_square_p_value_against_tables():
-    """Upper-tail χ² probabilities: 5.991 on 2 dof and 11.345 on 3 dof (common practice: statistical tables)."""
+    """Upper-tail χ² probabilities at 5.991/2 dof and 11.345/3 dof (common practice: tables)."""
     assert float(chi_square_p_value(5.991, 2)) == pytest.approx(0.05, abs=2e-4)
     assert float(chi_square_p_value(11.345, 3)) == pytest.approx(0.01, abs=2e-4)

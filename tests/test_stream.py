@@ -9,6 +9,7 @@ import pytest
 from molid.cli import main
 from molid.export import to_csv
 from molid.identify import identify
+from molid.reading import InputError
 from molid.stream import identify_to_csv
 
 sys.path.insert(0, "benchmarks")
@@ -75,7 +76,7 @@ def test_failed_run_leaves_no_partial_output(tmp_path):
     bad = tmp_path / "bad.csv"
     bad.write_text("run,method\nx,syringe\n", encoding="utf-8")
     out = tmp_path / "out.csv"
-    with pytest.raises(Exception):
+    with pytest.raises(InputError, match="required column"):
         identify_to_csv(bad, out, progress=False)
     assert list(tmp_path.iterdir()) == [bad]
 

@@ -87,13 +87,13 @@ def test_budget_sums_to_100(contributions):
 @settings(max_examples=50, deadline=None)
 @given(st.floats(-1e6, 1e6), st.floats(1e-9, 1e3))
 def test_difference_of_a_quantity_with_itself_has_no_uncertainty(x, u):
-    """x − x has zero uncertainty: the propagation keeps the correlation (common practice)."""
+    """X − x has zero uncertainty: the propagation keeps the correlation (common practice)."""
     result = propagate(lambda a: a - a, {"a": [x]}, {"a": [u]})
     assert result.standard_uncertainty[0] == 0.0
 
 
 def test_type_b_rules():
-    """Type B conversions: rectangular a/√3, readability d/√12, certificate U/k (GUM 4.3.7, F.2.2.1, 4.3.3)."""
+    """Type B rules: rectangular a/√3, readability d/√12, certificate U/k (GUM 4.3.7, F.2.2.1, 4.3.3)."""
     assert type_b_standard_uncertainty(half_width=1.0) == pytest.approx(1 / math.sqrt(3))
     assert type_b_standard_uncertainty(readability=1.0) == pytest.approx(1 / math.sqrt(12))
     assert type_b_standard_uncertainty(expanded=0.4, coverage_factor=2) == pytest.approx(0.2)
