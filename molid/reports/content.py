@@ -140,7 +140,9 @@ class Plot:
 
     ``raster_in_pdf`` asks the PDF writer for a high-resolution bitmap instead of
     SVG, for figures that use SVG features fpdf2 does not draw (clip paths on
-    markers, mathtext tick labels).
+    markers, mathtext tick labels). ``spec``, when given, is a picklable
+    description :func:`molid.reports.figures.spec_figure` turns into the same
+    figure, so a long report can draw its plots in worker processes.
     """
 
     make: object
@@ -149,6 +151,7 @@ class Plot:
     alt: str = ""
     title: str = ""
     raster_in_pdf: bool = False
+    spec: tuple | None = None
 
 
 @dataclass
@@ -538,13 +541,15 @@ def _plot_block(value, expanded, nearby, label_name) -> Plot:
                COVERAGE_FACTOR * item["measured"]["u"], item["verdict"],
                item["name"] == label_name) for item in nearby]
 
+    spec = ("axis", float(value), float(expanded), points, 90.0, 43.0)
+
     def make():
-        return figures.axis_figure(value, expanded, points, height=43.0)
+        return figures.spec_figure(spec)
 
     return Plot(make, 90.0, 43.0,
                 "The molar-mass axis: the grey band is the result's interval (ideal gas, ±U); "
                 "for each nearby candidate, its molar mass (diamond) and the value the "
-                "measurement gives if the gas is that candidate (dot, ±U).")
+                "measurement gives if the gas is that candidate (dot, ±U).", spec=spec)
 
 
 def _page_for(result, key, positions, run_labels, columns, top, library_hazards) -> Page:

@@ -11,8 +11,8 @@ from __future__ import annotations
 import io
 import re
 
-__all__ = ["VERDICT_COLOURS", "axis_figure", "figure_svg", "figure_png", "svg_for_pdf",
-           "style_context"]
+__all__ = ["VERDICT_COLOURS", "axis_figure", "spec_figure", "spec_svg_for_pdf", "figure_svg",
+           "figure_png", "svg_for_pdf", "style_context"]
 
 #: Colour of each verdict, shared with the tables (colour-blind-safe diverging palette).
 VERDICT_COLOURS = {
@@ -101,6 +101,30 @@ def _axis_axes(axes, value, expanded, points):
     axes.grid(axis="x", color="#eeeeee", lw=0.5)
     axes.spines[["top", "right"]].set_visible(False)
     axes.ticklabel_format(axis="x", useOffset=False)
+
+
+def spec_figure(spec):
+    """Build a figure from its picklable description (see :class:`~molid.reports.content.Plot`).
+
+    Parameters
+    ----------
+    spec : tuple
+        ``("axis", value, expanded, points, width, height)`` for :func:`axis_figure`.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    kind, *arguments = spec
+    if kind != "axis":
+        raise ValueError(f"unknown figure kind {kind!r}")
+    value, expanded, points, width, height = arguments
+    return axis_figure(value, expanded, points, width=width, height=height)
+
+
+def spec_svg_for_pdf(spec) -> bytes:
+    """Build a figure from its description and return the SVG the PDF writer embeds."""
+    return svg_for_pdf(figure_svg(spec_figure(spec)))
 
 
 def figure_svg(figure) -> bytes:

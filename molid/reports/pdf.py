@@ -11,11 +11,13 @@ from __future__ import annotations
 import functools
 import io
 import logging
+import os
 from pathlib import Path
 
 from molid.reports.content import Bullets, Columns, Fields, Highlight, Plot, Signature, Table
 
-__all__ = ["PAPER_SIZES", "TEXT_WIDTH", "render_pdf", "font_path", "printable"]
+__all__ = ["PAPER_SIZES", "TEXT_WIDTH", "PARALLEL_MINIMUM", "render_pdf", "font_path",
+           "printable"]
 
 #: Paper sizes [mm].
 PAPER_SIZES = {"a4": (210.0, 297.0), "letter": (215.9, 279.4)}
@@ -101,8 +103,6 @@ def render_pdf(report, paper="a4") -> bytes:
     bytes
         The PDF file.
     """
-    from molid.reports.figures import figure_png, figure_svg, svg_for_pdf
-
     logging.getLogger("fpdf.svg").setLevel(logging.ERROR)
     width, height = PAPER_SIZES[paper]
     document = _document_class()(orientation="P", unit="mm", format=(width, height))
@@ -122,11 +122,71 @@ def render_pdf(report, paper="a4") -> bytes:
     document.set_creator(f"molid {report.version}")
     if report.generated_datetime is not None:
         document.set_creation_date(report.generated_datetime)
-    for page in report.pages:
-        document.add_page()
-        document.start_section(page.title[:120], strict=False)
-        _page(document, page, figure_svg, svg_for_pdf, figure_png)
+    source = _FigureSource(report.pages)
+    try:
+        for page in report.pages:
+            document.add_page()
+            document.start_section(page.title[:120], strict=False)
+            _page(document, page, source)
+    finally:
+        source.close()
     return bytes(document.output())
+
+
+#: From this many plots on, they are drawn in worker processes while the pages are laid out.
+PARALLEL_MINIMUM = 16
+
+
+class _FigureSource:
+    """The SVG of each plot: drawn here, or ahead in worker processes for long reports.
+
+    Drawing a plot (matplotlib) takes most of a page's time and needs nothing from
+    the layout, so for a long report the plots are handed to a process pool in
+    page order and collected as the pages reach them. Any failure of the pool
+    falls back to drawing in this process.
+    """
+
+    def __init__(self, pages):
+        from molid.reports import figures
+
+        self.figures = figures
+        self.pool = None
+        self.futures = {}
+        plots = []
+        for page in pages:
+            for block in page.blocks:
+                for item in (block.left, block.right) if isinstance(block, Columns) else (block,):
+                    if isinstance(item, Plot) and item.spec is not None and not item.raster_in_pdf:
+                        plots.append(item)
+        workers = min(os.cpu_count() or 1, 4)
+        if len(plots) < PARALLEL_MINIMUM or workers < 2:
+            return
+        try:
+            from concurrent.futures import ProcessPoolExecutor
+
+            self.pool = ProcessPoolExecutor(max_workers=workers)
+            for plot in plots:
+                self.futures[id(plot)] = self.pool.submit(figures.spec_svg_for_pdf, plot.spec)
+        except Exception:  # noqa: BLE001 - no processes here (sandbox, frozen app): draw serially
+            self.close()
+
+    def svg(self, block) -> bytes:
+        future = self.futures.pop(id(block), None)
+        if future is not None:
+            try:
+                return future.result()
+            except Exception:  # noqa: BLE001 - a worker that died: draw it here instead
+                pass
+        return self.figures.svg_for_pdf(self.figures.figure_svg(block.make()))
+
+    def png(self, block, dpi) -> bytes:
+        return self.figures.figure_png(block.make(), dpi=dpi)
+
+    def close(self):
+        if self.pool is not None:
+            self.pool.shutdown(wait=True, cancel_futures=True)
+        self.pool = None
+        self.futures = {}
 
 
 def _room(document) -> float:
@@ -222,7 +282,7 @@ def _text(document, text, width, height, align="L", x=None):
     return len(lines)
 
 
-def _page(document, page, figure_svg, svg_for_pdf, figure_png):
+def _page(document, page, source):
     document.set_font(_FONT, "B", 13)
     _text(document, page.title, TEXT_WIDTH, 6.5, x=document.l_margin)
     if page.subtitle:
@@ -237,7 +297,7 @@ def _page(document, page, figure_svg, svg_for_pdf, figure_png):
         document.set_text_color(0, 0, 0)
         document.set_line_width(0.2)
         if isinstance(block, Columns):
-            _columns(document, block, figure_svg, svg_for_pdf, figure_png)
+            _columns(document, block, source)
         elif isinstance(block, Fields):
             _fields(document, block)
         elif isinstance(block, Highlight):
@@ -245,7 +305,7 @@ def _page(document, page, figure_svg, svg_for_pdf, figure_png):
         elif isinstance(block, Table):
             _table(document, block, document.l_margin, TEXT_WIDTH)
         elif isinstance(block, Plot):
-            _plot(document, block, figure_svg, svg_for_pdf, figure_png)
+            _plot(document, block, source)
         elif isinstance(block, Bullets):
             _bullets(document, block)
         elif isinstance(block, Signature):
@@ -380,7 +440,7 @@ def _table(document, block, x, width, size=7.0):
     document.set_y(document.get_y() + 1.5)
 
 
-def _columns(document, block, figure_svg, svg_for_pdf, figure_png):
+def _columns(document, block, source):
     """Draw a table on the left and a plot on the right, top-aligned."""
     needed = max(_compact_height(block.left), block.right.height)  # keep the pair together
     if _room(document) < needed + 2:
@@ -389,8 +449,7 @@ def _columns(document, block, figure_svg, svg_for_pdf, figure_png):
     _table(document, block.left, document.l_margin, block.split - 2, size=6.6)
     left_bottom = document.get_y()
     document.set_y(top)
-    _plot(document, block.right, figure_svg, svg_for_pdf, figure_png,
-          x=document.l_margin + block.split)
+    _plot(document, block.right, source, x=document.l_margin + block.split)
     document.set_y(max(left_bottom, top + block.right.height) + 1)
 
 
@@ -398,21 +457,17 @@ def _compact_height(block) -> float:
     return 4.5 + 7.0 + 3.8 * len(block.rows) + (7 if block.note else 0)
 
 
-def _plot(document, block, figure_svg, svg_for_pdf, figure_png, x=None):
+def _plot(document, block, source, x=None):
     if x is None and _room(document) < block.height + 1:
         document.add_page()
-    figure = block.make()
     if x is None:
         x = document.l_margin + (TEXT_WIDTH - block.width) / 2
     y = document.get_y()
     try:
-        if block.raster_in_pdf:
-            data = figure_png(figure, dpi=220)
-        else:
-            data = svg_for_pdf(figure_svg(figure))
+        data = source.png(block, 220) if block.raster_in_pdf else source.svg(block)
         document.image(io.BytesIO(data), x=x, y=y, w=block.width, h=block.height)
     except Exception:  # noqa: BLE001 - an SVG fpdf2 cannot read still prints, as a bitmap
-        document.image(io.BytesIO(figure_png(figure, dpi=250)), x=x, y=y, w=block.width,
+        document.image(io.BytesIO(source.png(block, 250)), x=x, y=y, w=block.width,
                        h=block.height)
     document.set_y(y + block.height + 1.5)
 
