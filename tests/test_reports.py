@@ -248,6 +248,9 @@ def test_plot_renders_with_pdftoppm(tmp_path, demo_pdf):
     assert 0.005 < dark < 0.5
 
 
+# About 13-25 s on a shared two-core machine, half or more of this file's time: marked so
+# that `-m "not slow"` can leave it out of a quick run.
+@pytest.mark.slow
 def test_two_hundred_runs_two_hundred_pages(tmp_path):
     """A file of 200 runs without samples makes 200 pages; the time is measured and bounded."""
     rng = np.random.default_rng(7)
