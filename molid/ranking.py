@@ -34,6 +34,7 @@ from molid.realgas import (
     second_virial,
     vapour_pressure_ambrose_walton,
     vapour_pressure_relative_uncertainty,
+    virial_relative_uncertainty,
     virial_truncation_uncertainty,
     virial_uncertainty,
 )
@@ -103,18 +104,14 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
     Thermodynamics of Fluid-Phase Equilibria*, 3rd ed., Prentice Hall (1999), ch. 5.
     JCGM 100:2008 (GUM), 5.1.2.
     """
-    has = library["has_critical_data"].to_numpy(dtype=bool)
-    column = {name: library[name].to_numpy(dtype=float) for name in (
-        "critical_temperature", "critical_pressure", "acentric_factor", "dipole_moment",
-        "molar_mass", "u_molar_mass")}
-    classes = library["polar_class"].fillna("nonpolar").to_numpy(dtype=object)
-    classes = np.where(has, classes, "nonpolar")
-    hill = library["hill"].fillna("").to_numpy(dtype=object)
-    # Candidates without critical data get harmless stand-ins, masked to ideal gas below.
-    critical_temperature = np.where(has, column["critical_temperature"], 100.0)
-    critical_pressure = np.where(has, column["critical_pressure"], 1e6)
-    acentric = np.where(has, column["acentric_factor"], 0.0)
-    dipole = np.nan_to_num(column["dipole_moment"])
+    constants = candidate_constants(library)
+    has = constants["has"]
+    column = constants
+    classes, hill = constants["classes"], constants["hill"]
+    critical_temperature = constants["critical_temperature"]
+    critical_pressure = constants["critical_pressure"]
+    acentric = constants["acentric_factor"]
+    dipole = constants["dipole_moment"]
     T = np.asarray(temperature, dtype=float)[:, None]
     p = np.asarray(pressure, dtype=float)[:, None]
     M = np.asarray(molar_mass, dtype=float)[:, None]
@@ -127,7 +124,7 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
                                  return_derivative=True)
         B = np.where(has, B, 0.0)
         dB_dT = np.where(has, dB_dT, 0.0)
-        u_B_distinct = np.where(has, virial_uncertainty(classes, B), 0.0)
+        u_B_distinct = np.sqrt((constants["relative_B"] * B) ** 2 + constants["absolute_B"] ** 2)
         B, dB_dT, u_B = B[back], dB_dT[back], u_B_distinct[back]
         RT = GAS_CONSTANT * T
         x = B * (p / RT)
@@ -146,15 +143,12 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         u_p = uncertainties["pressure"][:, None]
         variance = (Z * Z * np.maximum(u_ideal_square - c_T**2 - c_p**2, 0.0)
                     + (Z * c_T + M * dZ_dT * u_T) ** 2 + (Z * c_p + M * dZ_dp * u_p) ** 2)
-        u_truncation = np.where(has, virial_truncation_uncertainty(classes, T, p, B,
-                                                                   form="density"), 0.0)
+        u_truncation = constants["truncation"] * x * x
         u_model = M * np.sqrt((dZ_dx * u_B * p / RT) ** 2 + u_truncation**2)
         u_measured = np.sqrt(variance + u_model**2)
         u_total = np.sqrt(u_measured**2 + column["u_molar_mass"] ** 2)
         z = (measured - column["molar_mass"]) / u_total
-        saturation, u_relative_saturation = _saturation(T, p, has, hill, classes,
-                                                        critical_temperature, critical_pressure,
-                                                        acentric)
+        saturation, u_relative_saturation = _saturation(T, p, constants)
         # Condenses only when even the high end of the estimate is below p.
         condenses = saturation * (1.0 + 2.0 * u_relative_saturation) < p
         near = ~condenses & (saturation < p * NEAR_SATURATION)
@@ -176,7 +170,48 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
 NEAR_SATURATION = 1.25
 
 
-def _saturation(T, p, has, hill, classes, critical_temperature, critical_pressure, acentric):
+_CONSTANTS_CACHE: dict = {}
+
+
+def candidate_constants(library) -> dict:
+    """Per-candidate arrays the evaluation needs, computed once per library table.
+
+    Candidates without critical data get harmless stand-ins (and zero model
+    terms), so that they come out as ideal gases.
+    """
+    key = id(library)
+    cached = _CONSTANTS_CACHE.get(key)
+    if cached is not None and cached[0] is library:
+        return cached[1]
+    has = library["has_critical_data"].to_numpy(dtype=bool)
+    raw = {name: library[name].to_numpy(dtype=float) for name in (
+        "critical_temperature", "critical_pressure", "acentric_factor", "dipole_moment",
+        "molar_mass", "u_molar_mass")}
+    classes = library["polar_class"].fillna("nonpolar").to_numpy(dtype=object)
+    classes = np.where(has, classes, "nonpolar")
+    # With B·p/(R·T) = 1 the truncation term returns its factor k itself.
+    truncation = virial_truncation_uncertainty(classes, 1.0, GAS_CONSTANT, 1.0, form="density")
+    constants = {
+        "has": has,
+        "classes": classes,
+        "hill": library["hill"].fillna("").to_numpy(dtype=object),
+        "critical_temperature": np.where(has, raw["critical_temperature"], 100.0),
+        "critical_pressure": np.where(has, raw["critical_pressure"], 1e6),
+        "acentric_factor": np.where(has, raw["acentric_factor"], 0.0),
+        "dipole_moment": np.nan_to_num(raw["dipole_moment"]),
+        "molar_mass": raw["molar_mass"],
+        "u_molar_mass": raw["u_molar_mass"],
+        "relative_B": np.where(has, virial_relative_uncertainty(classes), 0.0),
+        "absolute_B": np.where(has, virial_uncertainty(classes, 0.0), 0.0),
+        "truncation": np.where(has, truncation, 0.0),
+        "relative_saturation": vapour_pressure_relative_uncertainty(classes),
+    }
+    _CONSTANTS_CACHE.clear()
+    _CONSTANTS_CACHE[key] = (library, constants)
+    return constants
+
+
+def _saturation(T, p, constants):
     """Vapour pressure of each candidate at each run's T [Pa], and its relative uncertainty.
 
     The vapour pressure rises with temperature, so a candidate whose estimate at
@@ -184,6 +219,10 @@ def _saturation(T, p, has, hill, classes, critical_temperature, critical_pressur
     any run; only the others are evaluated run by run. Water uses its own
     saturation equation (Wagner and Pruss 2002) rather than the estimate.
     """
+    has, hill = constants["has"], constants["hill"]
+    critical_temperature = constants["critical_temperature"]
+    critical_pressure = constants["critical_pressure"]
+    acentric = constants["acentric_factor"]
     shape = np.broadcast_shapes(T.shape, critical_temperature.shape)
     saturation = np.full(shape, np.inf)
     u_relative = np.zeros(shape)
@@ -196,7 +235,7 @@ def _saturation(T, p, has, hill, classes, critical_temperature, critical_pressur
     if water.any():
         estimate_cold = np.where(water, saturation_pressure_water(min(coldest, 647.0)),
                                  estimate_cold)
-    relative = vapour_pressure_relative_uncertainty(classes)
+    relative = constants["relative_saturation"]
     needed = has & (estimate_cold * (1.0 - 3.0 * relative) < highest * NEAR_SATURATION * 1.01)
     columns = np.flatnonzero(needed)
     if len(columns):
