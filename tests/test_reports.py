@@ -401,3 +401,24 @@ def test_plots_drawn_in_workers_match_plots_drawn_here(tmp_path, monkeypatch):
     monkeypatch.setattr(pdf_writer, "PARALLEL_MINIMUM", 10**6)
     serial = render_report(report, "pdf")
     assert parallel == serial
+
+
+def test_budget_sensitivities_follow_the_ideal_gas_law(tmp_path):
+    """The budget's c for a single run: ∂M/∂p = −M/p, ∂M/∂T = M/T, ∂M/∂V = −M/V.
+
+    Source: differentiating the ideal-gas molar mass M = m·R·T/(p·V) (common practice);
+    buoyancy and the air-density terms change these by far less than the 2 % allowed.
+    """
+    from molid.reports import build_report
+    from molid.reports.content import Columns
+
+    source = _write(tmp_path / "one.csv", [
+        ROW.format(run="c1", sample="", filled="148.2020", operator="QA")])
+    report, _ = build_report(source)
+    budget = next(block.left for block in report.pages[0].blocks if isinstance(block, Columns))
+    rows = {row[0]: float(row[2].replace("−", "-")) for row in budget.rows if row[2]}
+    molar_mass = float(re.search(r"([\d.]+) ± ", report.pages[0].blocks[1].lines[0]).group(1))
+    kelvin = 21.72 + 273.15  # the row's 21.72 °C (ITS-90: T/K = t/°C + 273.15)
+    assert rows["gas pressure"] == pytest.approx(-molar_mass / 100.39, rel=0.02)  # per kPa
+    assert rows["gas temperature"] == pytest.approx(molar_mass / kelvin, rel=0.02)  # per K
+    assert rows["volume"] == pytest.approx(-molar_mass / 500.12, rel=0.02)  # per mL
