@@ -64,6 +64,14 @@ def test_json_is_deterministic(good_file, capsys):
     assert capsys.readouterr().out == first
 
 
+def test_csv_is_deterministic(good_file, tmp_path):
+    """The same input gives byte-identical CSV."""
+    first, second = tmp_path / "one.csv", tmp_path / "two.csv"
+    assert main(["identify", str(good_file), "-o", str(first)]) == 0
+    assert main(["identify", str(good_file), "-o", str(second)]) == 0
+    assert first.read_bytes() == second.read_bytes()
+
+
 def test_csv_output_neutralises_formulas_and_keeps_columns(good_file, tmp_path):
     """-o writes one row per run with the user's columns; formula cells arrive as text."""
     output = tmp_path / "out.csv"
