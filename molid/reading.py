@@ -353,16 +353,20 @@ class _Problems:
 
     def __init__(self, row_numbers: np.ndarray):
         self.row_numbers = row_numbers
-        self.errors = [[] for _ in range(len(row_numbers))]
-        self.warnings = [[] for _ in range(len(row_numbers))]
+        # One shared empty list: a row gets its own list only when it has a problem,
+        # so a clean chunk of 10,000 rows allocates no 20,000 lists.
+        empty: list = []
+        self.errors = [empty] * len(row_numbers)
+        self.warnings = [empty] * len(row_numbers)
 
     def error(self, mask, message) -> None:
         for index in np.flatnonzero(mask):
-            self.errors[index].append(f"row {self.row_numbers[index]}, " + message(index))
+            self.errors[index] = self.errors[index] + [
+                f"row {self.row_numbers[index]}, " + message(index)]
 
     def warn(self, mask, message) -> None:
         for index in np.flatnonzero(mask):
-            self.warnings[index].append(message(index))
+            self.warnings[index] = self.warnings[index] + [message(index)]
 
 
 def _temperature_hint(unit: ColumnUnit, written: float) -> str:

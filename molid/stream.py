@@ -250,8 +250,13 @@ _WORKER_STATE: dict = {}
 
 
 def _initialise_worker(profile, library):
+    import gc
+
     _WORKER_STATE["profile"] = profile
     _WORKER_STATE["library"] = library
+    # The loaded modules and library live as long as the worker: keep them out of the
+    # collector's way so each chunk's garbage collection only looks at the chunk.
+    gc.freeze()
 
 
 def _start_pool(workers, profile, library):
