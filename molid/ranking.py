@@ -122,31 +122,38 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         B, dB_dT = second_virial(distinct[:, None], critical_temperature, critical_pressure,
                                  acentric, dipole, classes, column["molar_mass"], hill,
                                  return_derivative=True)
-        B = np.where(has, B, 0.0)
-        dB_dT = np.where(has, dB_dT, 0.0)
+        if not has.all():
+            B = np.where(has, B, 0.0)
+            dB_dT = np.where(has, dB_dT, 0.0)
+        # Everything that depends on T alone is done on the distinct rows, then gathered.
         u_B_distinct = np.sqrt((constants["relative_B"] * B) ** 2 + constants["absolute_B"] ** 2)
-        B, dB_dT, u_B = B[back], dB_dT[back], u_B_distinct[back]
-        RT = GAS_CONSTANT * T
-        x = B * (p / RT)
+        slope_distinct = dB_dT - B / distinct[:, None]
+        B, slope, u_B = B[back], slope_distinct[back], u_B_distinct[back]
+        p_over_RT = p / (GAS_CONSTANT * T)  # (n, 1)
+        x = B * p_over_RT
         root = np.sqrt(1.0 + 4.0 * x)
         Z = 0.5 * (1.0 + root)
         dZ_dx = 1.0 / root
-        dZ_dT = dZ_dx * (p / RT) * (dB_dT - B / T)
-        dZ_dp = dZ_dx * B / RT
         measured = M * Z
         # Z changes only the temperature and pressure sensitivities; the rest scale with Z.
         u_ideal_square = sum((sensitivities[name] * uncertainties[name]) ** 2
                              for name in sensitivities)[:, None]
         c_T = (sensitivities["temperature"] * uncertainties["temperature"])[:, None]
         c_p = (sensitivities["pressure"] * uncertainties["pressure"])[:, None]
-        u_T = uncertainties["temperature"][:, None]
-        u_p = uncertainties["pressure"][:, None]
-        variance = (Z * Z * np.maximum(u_ideal_square - c_T**2 - c_p**2, 0.0)
-                    + (Z * c_T + M * dZ_dT * u_T) ** 2 + (Z * c_p + M * dZ_dp * u_p) ** 2)
+        # M·∂Z/∂T·u_T and M·∂Z/∂p·u_p, with the (n, 1) factors combined first
+        scale_T = M * p_over_RT * uncertainties["temperature"][:, None]
+        scale_p = M * uncertainties["pressure"][:, None] / (GAS_CONSTANT * T)
+        rest = np.maximum(u_ideal_square - c_T**2 - c_p**2, 0.0)
+        term_T = Z * c_T + dZ_dx * slope * scale_T
+        term_p = Z * c_p + dZ_dx * B * scale_p
+        variance = Z * Z * rest + term_T * term_T + term_p * term_p
         u_truncation = constants["truncation"] * x * x
-        u_model = M * np.sqrt((dZ_dx * u_B * p / RT) ** 2 + u_truncation**2)
-        u_measured = np.sqrt(variance + u_model**2)
-        u_total = np.sqrt(u_measured**2 + column["u_molar_mass"] ** 2)
+        model_B = dZ_dx * u_B * p_over_RT
+        u_model_square = (M * M) * (model_B * model_B + u_truncation * u_truncation)
+        u_model = np.sqrt(u_model_square)
+        u_measured_square = variance + u_model_square
+        u_measured = np.sqrt(u_measured_square)
+        u_total = np.sqrt(u_measured_square + column["u_molar_mass"] ** 2)
         z = (measured - column["molar_mass"]) / u_total
         saturation, u_relative_saturation = _saturation(T, p, constants)
         # Condenses only when even the high end of the estimate is below p.
