@@ -25,7 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
-from molid.units import COLUMN_KINDS, UnitProblem, resolve_unit
+from molid.units import COLUMN_KINDS, MEASURED_INPUTS, UnitProblem, resolve_unit
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -40,18 +40,7 @@ __all__ = [
     "load_profile",
 ]
 
-PROFILE_INPUTS = (
-    "mass",
-    "mass_tare",
-    "mass_filled",
-    "volume",
-    "temperature",
-    "pressure",
-    "humidity",
-    "air_temperature",
-    "air_pressure",
-    "co2",
-)
+PROFILE_INPUTS = ("mass",) + MEASURED_INPUTS
 _RULE_KEYS = {"unit", "standard", "half_width", "readability", "expanded", "k", "relative"}
 
 

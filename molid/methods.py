@@ -34,6 +34,7 @@ import numpy as np
 
 from molid.air import moist_air_density
 from molid.constants import CONVENTIONAL_MASS_DENSITY, GAS_CONSTANT
+from molid.units import MEASURED_INPUTS
 from molid.water import MOLAR_MASS_WATER, saturation_pressure_water
 
 __all__ = [
@@ -52,19 +53,7 @@ METHOD_CODES = {"evacuated-bulb": 0, "air-tare-bulb": 1, "syringe": 2}
 #: The model's uncertain inputs, in budget order. The last two are relative
 #: corrections with value 0: the CIPM-2007 formula's own uncertainty and, for
 #: wet gas, the water partial pressure's.
-MODEL_INPUTS = (
-    "mass_tare",
-    "mass_filled",
-    "volume",
-    "temperature",
-    "pressure",
-    "humidity",
-    "air_temperature",
-    "air_pressure",
-    "co2",
-    "air_density_formula",
-    "water_vapour",
-)
+MODEL_INPUTS = MEASURED_INPUTS + ("air_density_formula", "water_vapour")
 
 #: Words for each input, for people reading a report.
 INPUT_LABELS = {

@@ -22,7 +22,14 @@ import numpy as np
 import pandas as pd
 
 from molid.instruments import InstrumentProfile, load_profile
-from molid.units import COLUMN_KINDS, DEFAULT_UNITS, ColumnUnit, UnitProblem, resolve_unit
+from molid.units import (
+    COLUMN_KINDS,
+    DEFAULT_UNITS,
+    MEASURED_INPUTS,
+    ColumnUnit,
+    UnitProblem,
+    resolve_unit,
+)
 
 __all__ = [
     "METHODS",
@@ -47,17 +54,7 @@ REQUIRED_COLUMNS = ("run", "method", "mass_tare", "mass_filled", "volume", "temp
 MEASURED_COLUMNS = tuple(COLUMN_KINDS)
 TEXT_COLUMNS = ("run", "sample", "method", "wet", "expected")
 #: Inputs that may have a u_<name> column; u_mass applies to both readings.
-UNCERTAIN_INPUTS = (
-    "mass_tare",
-    "mass_filled",
-    "volume",
-    "temperature",
-    "pressure",
-    "humidity",
-    "air_temperature",
-    "air_pressure",
-    "co2",
-)
+UNCERTAIN_INPUTS = MEASURED_INPUTS
 _HEADER_ALIASES = {"run_id": "run", "id": "run", "rh": "humidity", "relative_humidity": "humidity"}
 _TRUE = {"yes", "y", "true", "1", "wet", "saturated"}
 _FALSE = {"no", "n", "false", "0", "dry", ""}

@@ -11,11 +11,12 @@ with a single quote so that a spreadsheet shows them as text.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import tempfile
 from pathlib import Path
 
-__all__ = ["OutputRefused", "check_output_path", "write_atomic", "neutralise_cell"]
+__all__ = ["OutputRefused", "check_output_path", "atomic_output", "write_atomic", "neutralise_cell"]
 
 _FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 
@@ -65,23 +66,35 @@ def check_output_path(output, inputs=(), force: bool = False) -> Path:
     return path
 
 
-def write_atomic(path, data: bytes | str) -> None:
-    """Write a file through a temporary file in the same folder and a rename.
+@contextlib.contextmanager
+def atomic_output(path, mode: str = "wb"):
+    """Open a temporary file beside ``path`` that replaces it only if the block succeeds.
 
-    A reader never sees a half-written file, and a failure leaves any previous
-    file in place.
+    A reader never sees a half-written file, and a failure (or an interruption)
+    leaves any previous file in place and no temporary file behind.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The file to write.
+    mode : {"wb", "w"}
+        Binary, or text (UTF-8, newlines as written).
+
+    Yields
+    ------
+    file object
+        The open temporary file.
     """
     path = Path(path)
-    if isinstance(data, str):
-        data = data.encode("utf-8")
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     try:
         # mkstemp makes the file private; give it the permissions a new file would get.
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(temporary, 0o666 & ~umask)
-        with os.fdopen(handle, "wb") as stream:
-            stream.write(data)
+        text = {"encoding": "utf-8", "newline": ""} if "b" not in mode else {}
+        with os.fdopen(handle, mode, **text) as stream:
+            yield stream
             stream.flush()
             os.fsync(stream.fileno())
         os.replace(temporary, path)
@@ -91,6 +104,14 @@ def write_atomic(path, data: bytes | str) -> None:
         except FileNotFoundError:
             pass
         raise
+
+
+def write_atomic(path, data: bytes | str) -> None:
+    """Write a file through a temporary file in the same folder and a rename."""
+    if isinstance(data, str):
+        data = data.encode("utf-8")
+    with atomic_output(path, "wb") as stream:
+        stream.write(data)
 
 
 def neutralise_cell(value):

@@ -14,7 +14,6 @@ from __future__ import annotations
 import codecs
 import os
 import sys
-import tempfile
 import time
 from collections import deque
 from dataclasses import dataclass, field
@@ -26,6 +25,7 @@ import pandas as pd
 from molid.identify import Identification, evaluate_runs
 from molid.instruments import InstrumentProfile, load_profile
 from molid.reading import InputError, RunIds, _sniff_separator, first_uses, parse_runs
+from molid.safeio import atomic_output
 from molid.uncertainty import budget_percent
 
 __all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv"]
@@ -167,15 +167,10 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
     seen = RunIds()
     output = Path(output)
     decimal_comma = separator in (";", "\t")
-    handle, temporary = tempfile.mkstemp(prefix=f".{output.name}.", suffix=".part",
-                                         dir=output.parent)
     workers = _worker_count(workers)
     pool = None
     try:
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(temporary, 0o666 & ~umask)
-        with os.fdopen(handle, "w", encoding="utf-8", newline="") as sink:
+        with atomic_output(output, "w") as sink:
             reader = pd.read_csv(path, sep=separator, dtype=str, keep_default_na=False,
                                  skip_blank_lines=False, skipinitialspace=True,
                                  encoding=encoding, chunksize=chunk_rows)
@@ -217,17 +212,8 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
                 raise InputError(f"{path}: no header row found") from None
             except pd.errors.ParserError as error:
                 raise InputError(f"{path}: cannot read it as CSV ({error})") from None
-            sink.flush()
-            os.fsync(sink.fileno())
-        if summary.runs == 0:
-            raise InputError(f"{path}: the file has a header but no data rows")
-        os.replace(temporary, output)
-    except BaseException:
-        try:
-            os.unlink(temporary)
-        except FileNotFoundError:
-            pass
-        raise
+            if summary.runs == 0:
+                raise InputError(f"{path}: the file has a header but no data rows")
     finally:
         if pool is not None:
             pool.shutdown(wait=True, cancel_futures=True)

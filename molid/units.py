@@ -18,6 +18,7 @@ import numpy as np
 
 __all__ = [
     "COLUMN_KINDS",
+    "MEASURED_INPUTS",
     "DEFAULT_UNITS",
     "SI_UNITS",
     "ACCEPTED_UNITS",
@@ -41,6 +42,19 @@ COLUMN_KINDS = {
     "co2": "fraction",
     "reported_molar_mass": "molar_mass",
 }
+
+#: The measured inputs of a run, in budget order: each may have a u_<name> column.
+MEASURED_INPUTS = (
+    "mass_tare",
+    "mass_filled",
+    "volume",
+    "temperature",
+    "pressure",
+    "humidity",
+    "air_temperature",
+    "air_pressure",
+    "co2",
+)
 
 #: Unit assumed when a header gives none.
 DEFAULT_UNITS = {
