@@ -32,6 +32,7 @@ import periodictable
 from periodictable.formulas import from_subscript
 
 from molid.formulas import hill_formula, molar_mass
+from molid.realgas import POLAR_CLASSES
 
 __all__ = [
     "DEFAULT_LIBRARY_PATH",
@@ -90,17 +91,6 @@ LIBRARY_COLUMNS = (
     "source_ghs",
     "note",
     "origin",
-)
-
-#: Classes the second-virial correlation distinguishes.
-POLAR_CLASSES = (
-    "nonpolar",
-    "quantum",
-    "ether-ketone-ester",
-    "haloalkane",
-    "alcohol",
-    "water",
-    "inorganic-polar",
 )
 
 #: Acentric factors accepted in a library file (helium, the lowest, is about -0.39).
