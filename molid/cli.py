@@ -25,7 +25,8 @@ class _Parser(argparse.ArgumentParser):
 
 
 def _add_common(parser):
-    parser.add_argument("file", help="run file: .csv (comma or semicolon) or .xlsx; '-' reads stdin")
+    parser.add_argument("file", help="run file: .csv (comma, semicolon or tab separated) or .xlsx; "
+                        "'-' reads stdin")
     parser.add_argument("--profile", metavar="TOML",
                         help="instrument profile giving default uncertainties (see README)")
     parser.add_argument("--library", metavar="CSV",
@@ -179,6 +180,10 @@ def _library(args) -> int:
 
     from molid.library import search_library
 
+    if args.mass and not (0 <= args.mass[0] <= args.mass[1]):
+        print(f"molid: error: --mass needs LOW <= HIGH, both >= 0 (got {args.mass[0]:g} "
+              f"{args.mass[1]:g})", file=sys.stderr)
+        return EXIT_USAGE
     library = _load_library(args)
     found = search_library(library, args.query, tuple(args.mass) if args.mass else None)
     if args.json:

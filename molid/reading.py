@@ -529,7 +529,8 @@ def parse_runs(
             lambda i, name=name, unit=unit, original=original: (
                 f"column '{by_name[name].original}': '{original[i]}' is not a number; "
                 f"expected a number in {unit.text}"
-                + (" (decimal comma accepted in ;-separated files)" if not decimal_comma else "")
+                + (" (a decimal comma works in semicolon- or tab-separated files only)"
+                   if not decimal_comma and "," in str(original[i]) else "")
             ),
         )
         infinite = np.isinf(numbers)
@@ -685,7 +686,9 @@ def _check_ranges(values, units, by_name, text, problems: _Problems) -> None:
             odd,
             lambda i, name=name, absolute=absolute: (
                 f"{name.replace('_', ' ')} {_written(absolute[i], units[name]):g} "
-                f"{units[name].text} = {absolute[i]:.1f} K is unusual for gas weighing"
+                f"{units[name].text}" + (f" = {absolute[i]:.1f} K" if units[name].scale != 1
+                                          or units[name].offset != 0 else "")
+                + " is unusual for gas weighing"
                 + _temperature_hint(units[name], _written(absolute[i], units[name]))
             ),
         )
@@ -702,7 +705,9 @@ def _check_ranges(values, units, by_name, text, problems: _Problems) -> None:
             odd,
             lambda i, name=name, pressure=pressure: (
                 f"{name.replace('_', ' ')} {_written(pressure[i], units[name]):g} "
-                f"{units[name].text} = {pressure[i] / 1000:.4g} kPa is unusual for a gas in glass"
+                f"{units[name].text}" + (f" = {pressure[i] / 1000:.4g} kPa"
+                                          if units[name].text != "kPa" else "")
+                + " is unusual for a gas in glass"
                 + _pressure_hint_for(pressure[i], units[name])
             ),
         )

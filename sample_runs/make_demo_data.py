@@ -153,8 +153,8 @@ def student_molar_mass(cells, method, rho_air, mistake=None):
 def teaching_section(rng):
     """Write a teaching section and its answer key.
 
-    Two lab sections of the (fictional) Bramblewood Community College general chemistry
-    course weigh unknown gases in gas syringes and air-tared flasks; a few students make
+    Two lab sections at the (fictional) Bramblewood Community College chemistry labs
+    weigh unknown gases in gas syringes and air-tared flasks; a few students make
     the classic mistakes in their own calculation.
     """
     unknowns = {  # sample: (key entry, CoolProp fluid)
