@@ -160,15 +160,47 @@ def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
     return propagation, errors, warnings
 
 
+def shared_contributions(table: RunTable, propagation, ok) -> dict:
+    """Each input's contribution c·u that is common to all runs of a run's sample [kg/mol].
+
+    Two sources: the part of an instrument's uncertainty its profile declares
+    common to every run (a calibration), and, for the vessel's volume and the
+    assumed or model inputs, the whole uncertainty when all runs of the sample
+    have the same value and u (the same bulb, the same assumption).
+
+    Parameters
+    ----------
+    table : RunTable
+        The validated runs.
+    propagation : Propagation
+        The ideal-gas propagation of those runs.
+    ok : numpy.ndarray of bool
+        Runs with a result.
+
+    Returns
+    -------
+    dict of numpy.ndarray
+        Per input, per run; 0 for runs without a sample.
+    """
+    sample = table.text["sample"].to_numpy(dtype=object)
+    has_sample = pd.notna(pd.Series(sample, dtype=object)).to_numpy()
+    flags = shared_inputs(sample, propagation_values(propagation, table), propagation.uncertainties,
+                          ok & has_sample)
+    out = {}
+    for name in propagation.sensitivities:
+        declared = propagation.sensitivities[name] * table.shared_uncertainties.get(name, 0.0)
+        whole = propagation.contributions[name]
+        part = np.where(flags[name], whole, declared) if name in flags else declared
+        out[name] = np.where(has_sample, np.nan_to_num(part), 0.0)
+    return out
+
+
 def _sample_results(table: RunTable, propagation, errors):
     ok = np.array([not row for row in errors], dtype=bool)
     sample = table.text["sample"].to_numpy(dtype=object)
     has_sample = np.array([item is not None for item in sample], dtype=bool)
     runs = table.text["run"].to_numpy(dtype=object)
-    flags = shared_inputs(sample, propagation_values(propagation, table), propagation.uncertainties,
-                          ok & has_sample)
-    contributions = propagation.contributions
-    shared = {name: np.where(flags[name], contributions[name], 0.0) for name in flags}
+    shared = shared_contributions(table, propagation, ok)
     u = propagation.standard_uncertainty
     samples = combine_replicates(sample, propagation.value, u, shared, ok & has_sample)
     # Group once; everything per sample below is a lookup, not a scan of all runs.
@@ -192,9 +224,9 @@ def _sample_results(table: RunTable, propagation, errors):
     in_sample = ok & has_sample
     matters = pd.DataFrame({"sample": sample[in_sample]})
     variance = u[in_sample] ** 2
-    for name in flags:
-        matters[f"all_{name}"] = flags[name][in_sample]
-        matters[f"big_{name}"] = contributions[name][in_sample] ** 2 > 0.01 * variance
+    for name in shared:
+        matters[f"all_{name}"] = shared[name][in_sample] != 0
+        matters[f"big_{name}"] = shared[name][in_sample] ** 2 > 0.01 * variance
     summary = matters.groupby("sample", sort=False).agg(
         {column: ("all" if column.startswith("all_") else "any")
          for column in matters.columns if column != "sample"}
@@ -219,7 +251,7 @@ def _sample_results(table: RunTable, propagation, errors):
                 )
         if row.n > 1 and summary is not None:
             flags_here = summary[row.sample]
-            shared_names = [INPUT_LABELS[name] for name in flags
+            shared_names = [INPUT_LABELS[name] for name in shared
                             if flags_here[f"all_{name}"] and flags_here[f"big_{name}"]]
             if shared_names:
                 notes.append(

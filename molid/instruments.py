@@ -41,7 +41,8 @@ __all__ = [
 ]
 
 PROFILE_INPUTS = ("mass",) + MEASURED_INPUTS
-_RULE_KEYS = {"unit", "standard", "half_width", "readability", "expanded", "k", "relative"}
+_RULE_KEYS = {"unit", "standard", "half_width", "readability", "expanded", "k", "relative",
+              "shared"}
 
 
 class ProfileError(ValueError):
@@ -97,16 +98,28 @@ def type_b_standard_uncertainty(
 
 @dataclass(frozen=True)
 class UncertaintyRule:
-    """Standard uncertainty of one input: an absolute SI part and a relative part."""
+    """Standard uncertainty of one input: an absolute SI part and a relative part.
+
+    ``shared_absolute`` and ``shared_relative`` are the parts (included in the
+    totals) that are common to every run made with the instrument, such as a
+    calibration certificate's: averaging replicate runs does not reduce them.
+    """
 
     absolute: float = 0.0
     relative: float = 0.0
     description: str = ""
+    shared_absolute: float = 0.0
+    shared_relative: float = 0.0
 
     def apply(self, values_si) -> np.ndarray:
         """Return the standard uncertainty [SI] for the given values [SI]."""
         values_si = np.asarray(values_si, dtype=float)
         return np.hypot(self.absolute, self.relative * np.abs(values_si))
+
+    def apply_shared(self, values_si) -> np.ndarray:
+        """Return the part of the standard uncertainty [SI] common to all runs."""
+        values_si = np.asarray(values_si, dtype=float)
+        return np.hypot(self.shared_absolute, self.shared_relative * np.abs(values_si))
 
 
 @dataclass(frozen=True)
@@ -161,11 +174,20 @@ def _rule_from_table(name: str, table: dict, where: str) -> UncertaintyRule:
         coverage_factor=k,
     )
     relative = _number(table, "relative", where)
+    shared = table.get("shared")
+    if shared is not None and not isinstance(shared, bool):
+        raise ProfileError(f"{where}.shared: {shared!r} is not true or false")
+    # A certificate's expanded uncertainty describes the calibration: common to every
+    # run with the instrument. Readings, repeatability and half-widths vary run to run.
+    certificate = _number(table, "expanded", where) / k if "expanded" in table else 0.0
+    shared_absolute = u if shared else (0.0 if shared is False else certificate)
     text = ", ".join(f"{key} {table[key]}" for key in sorted(table) if key not in {"unit", "value"})
     return UncertaintyRule(
         absolute=u * unit.delta_scale,
         relative=relative,
         description=f"{text} [{unit.text}]" if text else "",
+        shared_absolute=shared_absolute * unit.delta_scale,
+        shared_relative=relative if shared else 0.0,
     )
 
 

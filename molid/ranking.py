@@ -509,7 +509,6 @@ def rank_identification(result, library=None):
     Fills ``result.ranking`` in place and returns it.
     """
     from molid.library import find_candidate, load_library
-    from molid.replicates import SHAREABLE_INPUTS
 
     if library is None:
         library = load_library()
@@ -538,18 +537,13 @@ def rank_identification(result, library=None):
         codes = mapped[in_sample].to_numpy(dtype=int)
         matrix = _group_matrix(codes, len(names), int(in_sample.sum()))
         u_run = prop.standard_uncertainty[index][in_sample]
-        flags = {}
-        from molid.identify import propagation_values
-        from molid.replicates import shared_inputs
+        from molid.identify import shared_contributions
 
-        all_flags = shared_inputs(table.text["sample"].to_numpy(dtype=object),
-                                  propagation_values(prop, table), prop.uncertainties, ok)
-        for name in SHAREABLE_INPUTS:
-            if name in all_flags:
-                flags[name] = all_flags[name][index][in_sample]
+        shared = {name: part[index][in_sample]
+                  for name, part in shared_contributions(table, prop, ok).items()}
         shared_square = np.zeros_like(u_run)
-        for name, flag in flags.items():
-            shared_square += np.where(flag, prop.contributions[name][index][in_sample], 0.0) ** 2
+        for part in shared.values():
+            shared_square += part**2
         independent = np.sqrt(np.maximum(u_run**2 - shared_square, 0.0))
         independent = np.maximum(independent, 1e-9 * np.abs(prop.value[index][in_sample]) + 1e-300)
         weight = 1.0 / independent**2
@@ -565,9 +559,8 @@ def rank_identification(result, library=None):
         u_ind_run = Z * independent[:, None]
         u_independent = np.sqrt(matrix @ ((weight[:, None] * u_ind_run) ** 2)) / total_weight[:, None]
         shared_total = np.zeros_like(measured)
-        for name, flag in flags.items():
-            contribution = np.where(flag, prop.contributions[name][index][in_sample], 0.0)
-            shared_total += mean(Z * contribution[:, None]) ** 2
+        for part in shared.values():
+            shared_total += mean(Z * part[:, None]) ** 2
         shared_total += mean(runs["u_model"][in_sample]) ** 2
         u_measured = np.sqrt((u_independent * widen[:, None]) ** 2 + shared_total)
         u_candidate = library["u_molar_mass"].to_numpy(dtype=float)

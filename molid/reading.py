@@ -146,6 +146,9 @@ class RunTable:
         True where the gas was saturated with water vapour.
     values, uncertainties : dict of numpy.ndarray
         SI values and standard uncertainties of each input, NaN where unusable.
+    shared_uncertainties : dict of numpy.ndarray
+        The part of each uncertainty common to every run with the same instrument
+        (a calibration error, from the profile), which averaging does not reduce.
     given : dict of numpy.ndarray
         For air_temperature and air_pressure: True where the row gives its own value
         (elsewhere the gas's temperature or pressure is used).
@@ -163,6 +166,7 @@ class RunTable:
     wet: np.ndarray
     values: dict
     uncertainties: dict
+    shared_uncertainties: dict
     given: dict
     errors: list
     warnings: list
@@ -611,27 +615,35 @@ def parse_runs(
         values[name] = np.where(blanks[name], assumed_value, values[name])
 
     uncertainties: dict[str, np.ndarray] = {}
+    shared: dict[str, np.ndarray] = {}
     defaulted = []
     for name in UNCERTAIN_INPUTS:
+        rule = profile.rule(name)
         if name in ("humidity", "co2"):
             _, assumed_rule = profile.assumed[name]
-            default = np.where(
-                assumed_rows[name], assumed_rule.apply(values[name]),
-                profile.rule(name).apply(values[name]),
-            )
+            default = np.where(assumed_rows[name], assumed_rule.apply(values[name]),
+                               rule.apply(values[name]))
+            default_shared = np.where(assumed_rows[name], assumed_rule.apply_shared(values[name]),
+                                      rule.apply_shared(values[name]))
         elif name in ("air_temperature", "air_pressure"):
             # Where the gas's value stands in, the gas's uncertainty already covers it.
-            default = np.where(given[name], profile.rule(name).apply(values[name]), 0.0)
+            default = np.where(given[name], rule.apply(values[name]), 0.0)
+            default_shared = np.where(given[name], rule.apply_shared(values[name]), 0.0)
         else:
-            default = profile.rule(name).apply(values[name])
+            default = rule.apply(values[name])
+            default_shared = rule.apply_shared(values[name])
         if name in stated:
             use_default = np.isnan(stated[name])
             uncertainties[name] = np.where(use_default, default, stated[name])
+            # A u_<name> cell says nothing of calibration: it counts as run-to-run.
+            shared[name] = np.where(use_default, default_shared, 0.0)
             if name in ("air_temperature", "air_pressure"):
                 uncertainties[name] = np.where(given[name], uncertainties[name], 0.0)
+                shared[name] = np.where(given[name], shared[name], 0.0)
         else:
             use_default = np.ones(n, dtype=bool)
             uncertainties[name] = default
+            shared[name] = default_shared
         if use_default.any() and name not in ("humidity", "co2") and (
             name not in ("air_temperature", "air_pressure") or (given[name] & use_default).any()
         ):
@@ -652,6 +664,7 @@ def parse_runs(
         wet=wet,
         values=values,
         uncertainties=uncertainties,
+        shared_uncertainties=shared,
         given=given,
         errors=problems.errors,
         warnings=problems.warnings,

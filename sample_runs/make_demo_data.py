@@ -35,7 +35,8 @@ def water_pressure(temperature):
 
 
 def make_run(rng, *, method, gas, volume_ml, temp_c, pressure_kpa, rh, wet=False,
-             u_mass_g=0.0001, u_temp=0.05, u_pressure=0.03, glass_g=148.0):
+             u_mass_g=0.0001, u_temp=0.05, u_pressure=0.03, glass_g=148.0,
+             offset_temp=0.0, offset_pressure=0.0):
     T = temp_c + 273.15
     p = pressure_kpa * 1e3
     V = volume_ml * 1e-6
@@ -52,8 +53,9 @@ def make_run(rng, *, method, gas, volume_ml, temp_c, pressure_kpa, rh, wet=False
         "mass_tare [g]": f"{tare * 1e3 + noise(u_mass_g):.4f}",
         "mass_filled [g]": f"{filled * 1e3 + noise(u_mass_g):.4f}",
         "volume [mL]": f"{volume_ml:.2f}",
-        "temperature [degC]": f"{temp_c + noise(u_temp):.2f}",
-        "pressure [kPa]": f"{pressure_kpa + noise(u_pressure):.2f}",
+        # each reading's own noise, plus the instrument's calibration error, the same for all
+        "temperature [degC]": f"{temp_c + offset_temp + noise(u_temp):.2f}",
+        "pressure [kPa]": f"{pressure_kpa + offset_pressure + noise(u_pressure):.2f}",
         "humidity [%]": f"{rh:.0f}",
     }
 
@@ -94,12 +96,17 @@ def qa_cylinders(rng):
         ("LINE-07", "nitrogen", "Nitrogen", "evacuated-bulb", 500.12, "R. Lindqvist"),
     ]
     rows = []
+    # The lab's probe and barometer carry calibration errors within their certificates
+    # (0.05 K and 0.03 kPa standard uncertainty): one draw, shared by every run.
+    offset_temp, offset_pressure = 0.05 * rng.standard_normal(), 0.03 * rng.standard_normal()
     for number, (sample, label, gas, method, volume, operator) in enumerate(plan, start=1):
         wet = sample == "LINE-07"
         run = make_run(rng, method=method, gas=gas, volume_ml=volume,
                        temp_c=20.5 + 1.5 * rng.random(), pressure_kpa=100.2 + 1.5 * rng.random(),
                        rh=38 + 10 * rng.random(), wet=wet,
-                       u_mass_g=0.00015 if method == "syringe" else 0.0001)
+                       u_mass_g=0.00015 if method == "syringe" else 0.0001,
+                       u_temp=0.03, u_pressure=0.02,
+                       offset_temp=offset_temp, offset_pressure=offset_pressure)
         rows.append({"run": f"QA-{number:03d}", "sample": sample, "method": method,
                      **run, "wet": "yes" if wet else "no", "expected": label,
                      "operator": operator, "date": f"2026-11-{9 + number // 4:02d}"})

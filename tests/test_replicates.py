@@ -54,3 +54,23 @@ def test_chi_square_p_value_against_tables():
     """Upper-tail χ² probabilities at 5.991/2 dof and 11.345/3 dof (common practice: tables)."""
     assert float(chi_square_p_value(5.991, 2)) == pytest.approx(0.05, abs=2e-4)
     assert float(chi_square_p_value(11.345, 3)) == pytest.approx(0.01, abs=2e-4)
+
+
+def test_calibration_uncertainty_is_not_averaged_down(tmp_path):
+    """A certificate's U (common to all runs) stays whole in a sample's u (GUM F.1.2.1)."""
+    from molid.identify import identify
+
+    profile = tmp_path / "lab.toml"
+    profile.write_text('[pressure]\nunit = "kPa"\nexpanded = 0.2\nk = 2\n'
+                       '[temperature]\nunit = "K"\nstandard = 0.01\n'
+                       '[mass]\nunit = "g"\nstandard = 0.00001\n'
+                       '[volume]\nunit = "mL"\nstandard = 0.001\n', encoding="utf-8")
+    rows = ["run,sample,method,mass_tare,mass_filled,volume,temperature,pressure,humidity,u_humidity"]
+    rows += [f"r{i},S,evacuated-bulb,150.0000,150.9050,500.0{i},21.0,100.80,40,1" for i in range(4)]
+    runs = tmp_path / "runs.csv"
+    runs.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    result = identify(runs, profile=profile, rank=False)
+    pressure_part = abs(result.propagation.contributions["pressure"][0])
+    sample_u = result.samples["u"].iat[0]
+    assert sample_u >= pressure_part * 0.999  # not pressure_part / 2 for four runs
+    assert result.samples["u_shared"].iat[0] == pytest.approx(pressure_part, rel=0.02)
