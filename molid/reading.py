@@ -586,6 +586,15 @@ def parse_runs(
             lambda i, header=header: f"column '{header.original}': a standard uncertainty "
             "cannot be negative",
         )
+        if kind == "fraction":
+            too_wide = numbers * unit.delta_scale > 1.0
+            problems.error(
+                too_wide,
+                lambda i, header=header: f"column '{header.original}': a standard uncertainty "
+                "above 100 % cannot be; give it in % (or as a fraction, with '[1]' in the "
+                "header)",
+            )
+            negative = negative | too_wide
         u_si = np.where(is_blank | not_number | negative | np.isinf(numbers), np.nan, numbers)
         u_si = u_si * unit.delta_scale
         for t in targets:

@@ -165,3 +165,10 @@ def test_user_columns_are_kept():
     """Columns molid does not use are kept as the user wrote them."""
     table = _read(f"{HEADER},operator\n{GOOD},=cmd|' /C calc'!A0\n")
     assert table.raw["operator"].iat[0] == "=cmd|' /C calc'!A0"
+
+
+def test_humidity_uncertainty_above_100_percent_is_an_error():
+    """u_humidity of 200 % names its row and column; the next row is analysed."""
+    result, errors = _errors(f"{HEADER},humidity,u_humidity\n{GOOD},40,200\n"
+                             "g2,evacuated-bulb,150.0000,150.5870,500,21.0,100.8,40,5\n")
+    assert "row 2, column 'u_humidity'" in errors[0] and errors[1] == ""

@@ -235,4 +235,9 @@ def run_report_command(args) -> int:
         inputs=[args.library],
     )
     print(f"wrote {path}", file=sys.stderr)
+    suffix = Path(str(path)).suffix.lower()
+    written = _format_for(path, args.format)
+    if suffix in (".pdf", ".html", ".htm") and written != _format_for(path, None):
+        print(f"molid: note: {path} holds a {written.upper()} report although its name ends in "
+              f"{suffix}", file=sys.stderr)
     return 0 if ok else 1
