@@ -276,12 +276,6 @@ def _label_verdicts(ranking, n_rows):
     return out
 
 
-def csv_rows(result):
-    """Header and rows of the per-run CSV (lists, for callers that want them)."""
-    frame = csv_frame(result)
-    return list(frame.columns), frame.astype(object).where(frame.notna(), "").to_numpy().tolist()
-
-
 def to_csv(result, header: bool = True) -> str:
     """Return the per-run CSV as text (text cells quoted, numbers bare, RFC 4180)."""
     import io

@@ -13,10 +13,11 @@ import numpy as np
 import pandas as pd
 
 from molid.instruments import InstrumentProfile, load_profile
-from molid.methods import INPUT_LABELS, MODEL_INPUTS, measurement_model, method_codes
+from molid.methods import INPUT_LABELS, measurement_model, method_codes
 from molid.reading import RunTable, read_runs
 from molid.replicates import combine_replicates, shared_inputs
 from molid.uncertainty import COVERAGE_FACTOR, budget_percent, propagate
+from molid.units import MEASURED_INPUTS
 
 __all__ = ["MOLAR_MASS_FLOOR", "MOLAR_MASS_CEILING", "Identification", "evaluate_runs", "identify"]
 
@@ -84,14 +85,21 @@ class Identification:
         return COVERAGE_FACTOR * self.u
 
 
+def _model_values(table: RunTable) -> dict:
+    """Values of every model input; the two relative corrections have value 0."""
+    n = len(table)
+    values = {name: table.values[name] for name in MEASURED_INPUTS}
+    values["air_density_formula"] = np.zeros(n)
+    values["water_vapour"] = np.zeros(n)
+    return values
+
+
 def model_inputs(table: RunTable, profile: InstrumentProfile):
     """Values, uncertainties and flags of the measurement model for every run."""
     n = len(table)
-    values = {name: table.values[name] for name in MODEL_INPUTS[:9]}
-    uncertainties = {name: table.uncertainties[name] for name in MODEL_INPUTS[:9]}
-    values["air_density_formula"] = np.zeros(n)
+    values = _model_values(table)
+    uncertainties = {name: table.uncertainties[name] for name in MEASURED_INPUTS}
     uncertainties["air_density_formula"] = np.full(n, CIPM_2007_RELATIVE_UNCERTAINTY)
-    values["water_vapour"] = np.zeros(n)
     uncertainties["water_vapour"] = np.where(table.wet, profile.wet_relative, 0.0)
     static = {
         "method_code": method_codes(table.text["method"].to_numpy(dtype=object)),
@@ -184,8 +192,7 @@ def shared_contributions(table: RunTable, propagation, ok) -> dict:
     """
     sample = table.text["sample"].to_numpy(dtype=object)
     has_sample = pd.notna(pd.Series(sample, dtype=object)).to_numpy()
-    flags = shared_inputs(sample, propagation_values(propagation, table), propagation.uncertainties,
-                          ok & has_sample)
+    flags = shared_inputs(sample, _model_values(table), propagation.uncertainties, ok & has_sample)
     out = {}
     for name in propagation.sensitivities:
         declared = propagation.sensitivities[name] * table.shared_uncertainties.get(name, 0.0)
@@ -263,21 +270,13 @@ def _sample_results(table: RunTable, propagation, errors):
     return samples, sample_runs, sample_warnings
 
 
-def propagation_values(propagation, table: RunTable) -> dict:
-    """Return the model-input values behind a propagation (for shared inputs)."""
-    values = {name: table.values[name] for name in MODEL_INPUTS[:9]}
-    n = len(table)
-    values["air_density_formula"] = np.zeros(n)
-    values["water_vapour"] = np.zeros(n)
-    return values
-
-
 def identify(
     source,
     *,
     profile: InstrumentProfile | str | Path | None = None,
     library=None,
     rank: bool = True,
+    combine: bool = True,
 ) -> Identification:
     """Analyse a run file or DataFrame: molar mass, uncertainty, samples and candidates.
 
@@ -292,6 +291,9 @@ def identify(
         library when None.
     rank : bool
         Evaluate and rank the candidates.
+    combine : bool
+        Combine the runs of each sample (off for chunks of a large file, whose
+        per-run output has no place for samples).
 
     Returns
     -------
@@ -306,7 +308,12 @@ def identify(
     molar_mass = np.where(ok, propagation.value, np.nan)
     u = np.where(ok, propagation.standard_uncertainty, np.nan)
     budget = budget_percent(propagation.contributions)
-    samples, sample_runs, sample_warnings = _sample_results(table, propagation, errors)
+    if combine:
+        samples, sample_runs, sample_warnings = _sample_results(table, propagation, errors)
+    else:
+        samples = pd.DataFrame({"sample": pd.Series([], dtype=object), "n": [], "value": [],
+                                "u": [], "birge_ratio": [], "widened": []})
+        sample_runs, sample_warnings = {}, {}
     result = Identification(
         table=table,
         molar_mass=molar_mass,

@@ -611,10 +611,3 @@ def rank_identification(result, library=None):
     result.ranking = Ranking(library, runs, sample_block, index, names, run_budget, labels,
                              sample_labels, sample_budget)
     return result.ranking
-
-
-def candidate_frame(ranking, index, top=None) -> pd.DataFrame:
-    """Return the ranked candidates of one run as a DataFrame (for notebooks)."""
-    items = ranking.run_candidates(index, top)
-    return pd.DataFrame([{**item, "measured": item["measured"]["value"],
-                          "u": item["measured"]["u"]} for item in items])

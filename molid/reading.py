@@ -24,7 +24,6 @@ import pandas as pd
 from molid.instruments import InstrumentProfile, load_profile
 from molid.units import (
     COLUMN_KINDS,
-    DEFAULT_UNITS,
     MEASURED_INPUTS,
     ColumnUnit,
     UnitProblem,
@@ -98,8 +97,7 @@ class RunIds:
         run_ids = np.asarray(run_ids, dtype=object)
         rows = np.asarray(row_numbers, dtype=np.int64)
         result = np.zeros(len(run_ids), dtype=np.int64)
-        present = np.array([item is not None for item in run_ids], dtype=bool) \
-            if len(run_ids) < 64 else pd.notna(pd.Series(run_ids, dtype=object)).to_numpy()
+        present = pd.notna(pd.Series(run_ids, dtype=object)).to_numpy()
         if not present.any():
             return result
         ids = run_ids[present].astype(str)
@@ -801,7 +799,3 @@ def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None) 
         profile = load_profile(profile)
     raw, decimal_comma, notes, name = read_raw(source)
     return parse_runs(raw, decimal_comma=decimal_comma, profile=profile, notes=notes, source=name)
-
-
-# Used in messages elsewhere: the default unit of each column, for the README's table.
-DEFAULT_COLUMN_UNITS = {name: DEFAULT_UNITS[kind] for name, kind in COLUMN_KINDS.items()}

@@ -19,14 +19,12 @@ from collections import deque
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 
-from molid.identify import Identification, evaluate_runs
+from molid.identify import identify
 from molid.instruments import InstrumentProfile, load_profile
 from molid.reading import InputError, RunIds, _sniff_separator, first_uses, parse_runs
 from molid.safeio import atomic_output
-from molid.uncertainty import budget_percent
 
 __all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv"]
 
@@ -258,7 +256,6 @@ def _start_pool(workers, profile, library):
 def _chunk_job(job, profile=None, library=None):
     """Validate, evaluate and rank one chunk; return its CSV text and what the summary needs."""
     from molid.export import to_csv
-    from molid.ranking import rank_identification
 
     profile = profile if profile is not None else _WORKER_STATE["profile"]
     library = library if library is not None else _WORKER_STATE["library"]
@@ -267,28 +264,7 @@ def _chunk_job(job, profile=None, library=None):
                        source=source, require_rows=False, first_use_of_rows=first_use)
     if len(table) == 0:
         return "", 0, [], 0, 0, []
-    result = _evaluate_chunk(table, profile)
-    rank_identification(result, library=library)
+    result = identify(table, profile=profile, library=library, combine=False)
     bad = [row for row in result.errors if row]
     return (to_csv(result, header=True), len(table), ["; ".join(row) for row in bad[:_MAX_LISTED]],
             len(bad), sum(1 for row in result.warnings if row), list(table.notes))
-
-
-def _evaluate_chunk(table, profile) -> Identification:
-    propagation, errors, warnings = evaluate_runs(table, profile)
-    ok = np.array([not row for row in errors], dtype=bool)
-    empty_samples = pd.DataFrame({"sample": pd.Series([], dtype=object), "n": [], "value": [],
-                                  "u": [], "birge_ratio": [], "widened": []})
-    return Identification(
-        table=table,
-        molar_mass=np.where(ok, propagation.value, np.nan),
-        u=np.where(ok, propagation.standard_uncertainty, np.nan),
-        errors=errors,
-        warnings=warnings,
-        budget=budget_percent(propagation.contributions),
-        propagation=propagation,
-        samples=empty_samples,
-        sample_runs={},
-        sample_warnings={},
-        notes=list(table.notes),
-    )
