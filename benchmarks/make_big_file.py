@@ -1,6 +1,6 @@
 """Write a large run file for the throughput benchmark (synthetic, invented readings).
 
-    python benchmarks/make_big_file.py RUNS OUT.csv
+python benchmarks/make_big_file.py RUNS OUT.csv
 """
 
 import sys

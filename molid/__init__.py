@@ -4,7 +4,7 @@ The few names a notebook needs::
 
     import molid
     runs = molid.read("sample_runs/qa_cylinders.csv")
-    result = molid.identify(runs)
+    result = molid.pipeline.identify(runs)
 
 Heavy modules load on first use, so ``import molid`` stays quick.
 """
@@ -14,11 +14,11 @@ __version__ = "0.1.0"
 __all__ = ["__version__", "read", "identify", "grade", "report", "load_library"]
 
 _LAZY = {
-    "read": ("molid.reading", "read_runs"),
-    "identify": ("molid.identify", "identify"),
-    "grade": ("molid.grading", "grade"),
+    "read": ("molid.io.reading", "read_runs"),
+    "identify": ("molid.pipeline.identify", "identify"),
+    "grade": ("molid.teaching.grading", "grade"),
     "report": ("molid.reports", "write_report"),
-    "load_library": ("molid.library", "load_library"),
+    "load_library": ("molid.candidates.library", "load_library"),
 }
 
 

@@ -110,23 +110,23 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _load_library(args):
-    from molid.library import load_library
+    from molid.candidates.library import load_library
 
     return load_library(args.library, mode="replace" if args.replace_library else "merge",
                         extra_candidates=tuple(args.candidate))
 
 
 def _identify(args) -> int:
-    from molid.safeio import check_output_path
+    from molid.io.safe_files import check_output_path
 
     output = check_output_path(args.output, [args.file, args.profile, args.library],
                                args.force) if args.output else None
     library = _load_library(args)
     if output is not None and not args.json and _is_large_csv(args.file):
         return _identify_streaming(args, output, library)
-    from molid.export import to_csv, to_json, to_table
-    from molid.identify import identify
-    from molid.safeio import write_atomic
+    from molid.io.export import to_csv, to_json, to_table
+    from molid.io.safe_files import write_atomic
+    from molid.pipeline.identify import identify
 
     result = identify(args.file, profile=args.profile, library=library)
     if args.json:
@@ -143,7 +143,7 @@ def _is_large_csv(name) -> bool:
     """Tell whether a file is a CSV longer than one chunk (then analysed in chunks)."""
     from pathlib import Path
 
-    from molid.stream import DEFAULT_CHUNK_ROWS, count_data_lines
+    from molid.pipeline.streaming import DEFAULT_CHUNK_ROWS, count_data_lines
 
     path = Path(name)
     if name == "-" or not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
@@ -155,7 +155,7 @@ def _is_large_csv(name) -> bool:
 
 
 def _identify_streaming(args, output, library) -> int:
-    from molid.stream import identify_to_csv
+    from molid.pipeline.streaming import identify_to_csv
 
     summary = identify_to_csv(args.file, output, profile=args.profile, library=library)
     print(f"{summary.runs:,} runs analysed in {summary.seconds:.1f} s; "
@@ -178,7 +178,7 @@ def _identify_streaming(args, output, library) -> int:
 def _library(args) -> int:
     import json
 
-    from molid.library import search_library
+    from molid.candidates.library import search_library
 
     if args.mass and not (0 <= args.mass[0] <= args.mass[1]):
         print(f"molid: error: --mass needs LOW <= HIGH, both >= 0 (got {args.mass[0]:g} "
@@ -208,7 +208,7 @@ def _library(args) -> int:
 
 
 def _grade(args) -> int:
-    from molid.grading import run_grade_command
+    from molid.teaching.grading import run_grade_command
 
     return run_grade_command(args)
 

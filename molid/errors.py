@@ -1,16 +1,16 @@
 """The errors a user can cause, gathered so the command line reports each without a traceback."""
 
-from molid.instruments import ProfileError
-from molid.reading import InputError
-from molid.safeio import OutputRefused
-from molid.units import UnitProblem
+from molid.io.profiles import ProfileError
+from molid.io.reading import InputError
+from molid.io.safe_files import OutputRefused
+from molid.io.units import UnitProblem
 
 __all__ = ["USER_ERRORS"]
 
 
 def _library_error():
     try:
-        from molid.library import LibraryError
+        from molid.candidates.library import LibraryError
     except ImportError:  # pragma: no cover - the library module ships with the package
         return ()
     return (LibraryError,)

@@ -69,7 +69,8 @@ def write(path, rows, columns):
 
 def qa_cylinders(rng):
     """Incoming-goods check at the (fictional) Larkspur Coatings QA lab, cylinders from
-    the (fictional) supplier Fenwick & Marr Industrial Gases."""
+    the (fictional) supplier Fenwick & Marr Industrial Gases.
+    """
     plan = [
         # sample, label, true gas, method, bulb mL, operator
         ("CYL-2231", "argon", "Argon", "evacuated-bulb", 500.12, "D. Okonkwo-Hale"),

@@ -9,9 +9,9 @@ import pandas as pd
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from molid.export import to_csv, to_json
-from molid.identify import identify
-from molid.reading import InputError
+from molid.io.export import to_csv, to_json
+from molid.io.reading import InputError
+from molid.pipeline.identify import identify
 
 COLUMNS = {
     "run": [""], "sample": [""], "method": [""],

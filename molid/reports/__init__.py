@@ -22,7 +22,7 @@ import os
 import sys
 from pathlib import Path
 
-from molid.reading import InputError
+from molid.io.reading import InputError
 
 __all__ = [
     "ReportError",
@@ -130,8 +130,8 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
     ok : bool
         False when some rows had errors.
     """
-    from molid.identify import identify
-    from molid.reading import read_raw
+    from molid.io.reading import read_raw
+    from molid.pipeline.identify import identify
 
     data, frame, name = _read_source(source)
 
@@ -209,7 +209,7 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
     ok : bool
         False when some rows had errors (the report shows them).
     """
-    from molid.safeio import check_output_path, write_atomic
+    from molid.io.safe_files import check_output_path, write_atomic
 
     source_path = None if hasattr(source, "read") or not isinstance(source, (str, Path)) \
         else source
@@ -225,7 +225,7 @@ def run_report_command(args) -> int:
     """Run the ``molid report`` command; return the exit status (0, or 1 when rows had errors)."""
     library = None
     if args.library or args.replace_library or args.candidate:
-        from molid.library import load_library
+        from molid.candidates.library import load_library
 
         library = load_library(args.library, mode="replace" if args.replace_library else "merge",
                                extra_candidates=tuple(args.candidate))

@@ -17,8 +17,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from molid.methods import INPUT_LABELS
-from molid.uncertainty import COVERAGE_FACTOR
+from molid.methods.model import INPUT_LABELS
+from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = [
     "Fields",
@@ -683,7 +683,7 @@ def identify_report(result, *, top=5, title="Gas identification report") -> Repo
     Parameters
     ----------
     result : Identification
-        From :func:`molid.identify.identify`.
+        From :func:`molid.pipeline.identify.identify`.
     top : int
         How many ranked candidates each page lists.
     title : str

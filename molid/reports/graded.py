@@ -2,9 +2,9 @@
 
 Each sheet shows the student's readings as entered, their result beside molid's
 recomputation, the percent error, the points and, in plain words, the classic
-mistake that explains the difference (see :mod:`molid.diagnosis`). The class
+mistake that explains the difference (see :mod:`molid.teaching.diagnosis`). The class
 summary gives the statistics per unknown and per section and the two class plots
-of :mod:`molid.class_plots`.
+of :mod:`molid.teaching.class_plots`.
 """
 
 from __future__ import annotations
@@ -33,7 +33,7 @@ from molid.reports.content import (
     format_with_uncertainty,
     hazard_cautions,
 )
-from molid.uncertainty import COVERAGE_FACTOR
+from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = ["graded_report"]
 
@@ -240,8 +240,8 @@ _SUMMARY_WIDTHS = [34.0, 11.0, 12.0, 18.0, 18.0, 18.0, 20.0, 16.0, 14.0]
 
 
 def _summary_pages(grading) -> list:
-    from molid import class_plots
-    from molid.diagnosis import DESCRIPTIONS
+    from molid.teaching import class_plots
+    from molid.teaching.diagnosis import DESCRIPTIONS
 
     summary = grading.summary
     overall = summary["overall"]
@@ -302,7 +302,7 @@ def graded_report(source, *, key=None, rubric=None, profile=None, library=None, 
     source : str, pathlib.Path, file-like or pandas.DataFrame
         The section's run file.
     key, rubric, profile, library
-        As for :func:`molid.grading.grade`.
+        As for :func:`molid.teaching.grading.grade`.
     top : int
         Ranked candidates considered for each sheet's plot.
 
@@ -313,7 +313,7 @@ def graded_report(source, *, key=None, rubric=None, profile=None, library=None, 
     ok : bool
         False when some runs could not be graded.
     """
-    from molid.grading import grade
+    from molid.teaching.grading import grade
 
     grading = grade(source, key=key, rubric=rubric, profile=profile, library=library)
     result = grading.identification

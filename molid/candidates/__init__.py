@@ -1,0 +1,1 @@
+"""Candidates: the substance library, per-candidate real-gas evaluation, verdicts and ranking."""

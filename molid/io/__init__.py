@@ -1,0 +1,1 @@
+"""Input and output: run sheets, units, instrument profiles, exports and safe writes."""

@@ -1,0 +1,1 @@
+"""Measurement methods: one module per method, and the registry every stage consults."""

@@ -1,0 +1,1 @@
+"""The identify pipeline: runs to molar masses, samples and ranked candidates."""

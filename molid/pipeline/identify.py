@@ -1,0 +1,334 @@
+"""The identify pipeline: validated runs → molar mass with uncertainty → samples → candidates.
+
+Each stage is a plain function over arrays; :func:`identify` chains them and is
+what the ``molid identify`` command and a notebook call.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from molid.io.profiles import InstrumentProfile, load_profile
+from molid.io.reading import RunTable, read_runs
+from molid.io.units import MEASURED_INPUTS
+from molid.methods.model import INPUT_LABELS, measurement_model, method_codes
+from molid.uncertainty.propagation import COVERAGE_FACTOR, budget_percent, propagate
+from molid.uncertainty.replicates import combine_replicates, shared_inputs
+
+__all__ = ["MOLAR_MASS_FLOOR", "MOLAR_MASS_CEILING", "Identification", "evaluate_runs", "identify"]
+
+#: Below hydrogen's molar mass (2.016 g/mol) no gas exists; allow for noise.
+MOLAR_MASS_FLOOR = 1.9e-3
+#: Above this no common gas or vapour lies (UF6 is 352 g/mol).
+MOLAR_MASS_CEILING = 500e-3
+
+#: The air-density formula's relative standard uncertainty (Picard et al. 2008).
+from molid.physics.air import CIPM_2007_RELATIVE_UNCERTAINTY  # noqa: E402
+
+
+@dataclass
+class Identification:
+    """Everything :func:`identify` found, as arrays over runs and a table of samples.
+
+    Attributes
+    ----------
+    table : RunTable
+        The validated input.
+    molar_mass, u : numpy.ndarray
+        Ideal-gas molar mass of each run and its standard uncertainty [kg/mol]; NaN
+        where the row has an error.
+    errors, warnings : list of list of str
+        Per-run problems (input and model).
+    budget : dict of numpy.ndarray
+        Each input's share of the variance [%].
+    propagation : Propagation
+        Sensitivities and contributions, for reports.
+    samples : pandas.DataFrame
+        One row per sample with replicate statistics (``value``/``u`` in kg/mol).
+    sample_runs : dict
+        Sample id → list of run ids combined.
+    sample_warnings : dict
+        Sample id → list of warnings.
+    ranking : object or None
+        Per-candidate evaluation (see :mod:`molid.candidates.ranking`).
+    notes : list of str
+        File-level remarks.
+    """
+
+    table: RunTable
+    molar_mass: np.ndarray
+    u: np.ndarray
+    errors: list
+    warnings: list
+    budget: dict
+    propagation: object
+    samples: pd.DataFrame
+    sample_runs: dict
+    sample_warnings: dict
+    ranking: object = None
+    sample_ranking: object = None
+    notes: list = field(default_factory=list)
+
+    @property
+    def ok(self) -> np.ndarray:
+        """True for runs with a result."""
+        return np.fromiter((not problems for problems in self.errors), dtype=bool,
+                           count=len(self.errors))
+
+    @property
+    def U(self) -> np.ndarray:  # noqa: N802 - the GUM's symbol
+        """Expanded uncertainty, k = 2 [kg/mol]."""
+        return COVERAGE_FACTOR * self.u
+
+
+def _model_values(table: RunTable) -> dict:
+    """Values of every model input; the two relative corrections have value 0."""
+    n = len(table)
+    values = {name: table.values[name] for name in MEASURED_INPUTS}
+    values["air_density_formula"] = np.zeros(n)
+    values["water_vapour"] = np.zeros(n)
+    return values
+
+
+def model_inputs(table: RunTable, profile: InstrumentProfile):
+    """Values, uncertainties and flags of the measurement model for every run."""
+    n = len(table)
+    values = _model_values(table)
+    uncertainties = {name: table.uncertainties[name] for name in MEASURED_INPUTS}
+    uncertainties["air_density_formula"] = np.full(n, CIPM_2007_RELATIVE_UNCERTAINTY)
+    uncertainties["water_vapour"] = np.where(table.wet, profile.wet_relative, 0.0)
+    static = {
+        "method_code": method_codes(table.text["method"].to_numpy(dtype=object)),
+        "wet": table.wet,
+        "air_temperature_given": table.given["air_temperature"],
+        "air_pressure_given": table.given["air_pressure"],
+    }
+    return values, uncertainties, static
+
+
+def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
+    """Molar mass and its uncertainty budget for every run of a validated table.
+
+    Parameters
+    ----------
+    table : RunTable
+        From :func:`molid.io.reading.read_runs`.
+    profile : InstrumentProfile, optional
+        Supplies the wet-gas term; the default profile when None.
+
+    Returns
+    -------
+    propagation : Propagation
+        Value [kg/mol], sensitivities and contributions per input.
+    errors, warnings : list of list of str
+        The table's problems plus those the model finds (a gas mass or dry-gas
+        pressure that cannot be, a molar mass no gas has).
+    """
+    profile = profile or load_profile()
+    values, uncertainties, static = model_inputs(table, profile)
+    propagation = propagate(measurement_model, values, uncertainties, static, output="molar_mass")
+    # Shallow copies: a row that gets a new problem gets a new list, the table's stay as read.
+    errors = list(table.errors)
+    warnings = list(table.warnings)
+    ok = table.ok
+    extras = propagation.extras
+    molar_mass = propagation.value
+    rows = table.row_numbers
+    u = propagation.standard_uncertainty
+
+    def add(mask, message):
+        for index in np.flatnonzero(mask):
+            errors[index] = errors[index] + [message(index)]
+        ok[mask] = False
+
+    add(ok & (extras["dry_pressure"] <= 0), lambda index: (
+        f"row {rows[index]}: the water vapour pressure at this temperature "
+        f"({(table.values['pressure'][index] - extras['dry_pressure'][index]) / 1000:.3g} kPa) "
+        "is not below the total pressure; a wet gas cannot be at these conditions"))
+    add(ok & (extras["gas_mass"] <= 0), lambda index: (
+        f"row {rows[index]}: with the displaced air added back, the gas mass comes out "
+        f"{extras['gas_mass'][index] * 1e3:.4g} g, which cannot be; check the method "
+        "(evacuated-bulb, air-tare-bulb or syringe), the readings and the volume"))
+    add(ok & ~(np.isfinite(molar_mass) & np.isfinite(u)), lambda index: (
+        f"row {rows[index]}: the result is not a finite number (a value too large or too "
+        "small for the arithmetic); check the numbers and their units"))
+    light = ok & (molar_mass < MOLAR_MASS_FLOOR)
+    heavy = ok & (molar_mass > MOLAR_MASS_CEILING)
+    for index in np.flatnonzero(light | heavy):
+        density = extras["gas_mass"][index] / table.values["volume"][index]
+        side = "lighter than hydrogen" if light[index] else "heavier than any common gas or vapour"
+        warnings[index] = warnings[index] + [
+            f"the gas density {density:.4g} kg/m³ implies {molar_mass[index] * 1e3:.4g} g/mol, "
+            f"{side}; check the mass and volume units and the method"
+        ]
+    return propagation, errors, warnings
+
+
+def shared_contributions(table: RunTable, propagation, ok) -> dict:
+    """Each input's contribution c·u that is common to all runs of a run's sample [kg/mol].
+
+    Two sources: the part of an instrument's uncertainty its profile declares
+    common to every run (a calibration), and, for the vessel's volume and the
+    assumed or model inputs, the whole uncertainty when all runs of the sample
+    have the same value and u (the same bulb, the same assumption).
+
+    Parameters
+    ----------
+    table : RunTable
+        The validated runs.
+    propagation : Propagation
+        The ideal-gas propagation of those runs.
+    ok : numpy.ndarray of bool
+        Runs with a result.
+
+    Returns
+    -------
+    dict of numpy.ndarray
+        Per input, per run; 0 for runs without a sample.
+    """
+    sample = table.text["sample"].to_numpy(dtype=object)
+    has_sample = pd.notna(pd.Series(sample, dtype=object)).to_numpy()
+    flags = shared_inputs(sample, _model_values(table), propagation.uncertainties, ok & has_sample)
+    out = {}
+    for name in propagation.sensitivities:
+        declared = propagation.sensitivities[name] * table.shared_uncertainties.get(name, 0.0)
+        whole = propagation.contributions[name]
+        part = np.where(flags[name], whole, declared) if name in flags else declared
+        out[name] = np.where(has_sample, np.nan_to_num(part), 0.0)
+    return out
+
+
+def _sample_results(table: RunTable, propagation, errors):
+    ok = np.array([not row for row in errors], dtype=bool)
+    sample = table.text["sample"].to_numpy(dtype=object)
+    has_sample = np.array([item is not None for item in sample], dtype=bool)
+    runs = table.text["run"].to_numpy(dtype=object)
+    shared = shared_contributions(table, propagation, ok)
+    u = propagation.standard_uncertainty
+    samples = combine_replicates(sample, propagation.value, u, shared, ok & has_sample)
+    # Group once; everything per sample below is a lookup, not a scan of all runs.
+    codes, names = pd.factorize(pd.Series(sample[has_sample], dtype=object))
+    sample_runs = {name: [] for name in names}
+    sample_warnings: dict = {name: [] for name in names}
+    good = ok[has_sample]
+    good_codes = codes[good]
+    order = np.argsort(good_codes, kind="stable")
+    boundaries = np.flatnonzero(np.diff(good_codes[order])) + 1
+    run_groups = np.split(runs[has_sample][good][order], boundaries)
+    code_groups = np.split(good_codes[order], boundaries)
+    for members, member_codes in zip(run_groups, code_groups, strict=True):
+        if len(members):
+            sample_runs[names[member_codes[0]]] = members.tolist()
+    for index in np.flatnonzero(has_sample & ~ok):
+        sample_warnings[sample[index]].append(
+            f"run {runs[index]} (row {table.row_numbers[index]}) left out: it has an error"
+        )
+    # Which shared effects matter (over 1 % of a run's variance) in each sample.
+    in_sample = ok & has_sample
+    matters = pd.DataFrame({"sample": sample[in_sample]})
+    variance = u[in_sample] ** 2
+    for name in shared:
+        matters[f"all_{name}"] = shared[name][in_sample] != 0
+        matters[f"big_{name}"] = shared[name][in_sample] ** 2 > 0.01 * variance
+    summary = matters.groupby("sample", sort=False).agg(
+        {column: ("all" if column.startswith("all_") else "any")
+         for column in matters.columns if column != "sample"}
+    ).to_dict("index") if len(matters) else None
+    for row in samples.itertuples(index=False):
+        notes = sample_warnings[row.sample]
+        if row.n > 1 and row.widened:
+            notes.append(
+                f"the {row.n} runs scatter more than their stated uncertainties explain "
+                f"(Birge ratio {row.birge_ratio:.2f}, chi-squared {row.chi_square:.3g} on "
+                f"{row.n - 1} degrees of freedom, p = {row.p_value:.2g}); the run-to-run part "
+                f"of the uncertainty was widened by the Birge ratio"
+                if row.p_value < 0.05 else
+                f"the runs scatter a little more than their stated uncertainties (Birge ratio "
+                f"{row.birge_ratio:.2f}, p = {row.p_value:.2g}); the run-to-run part of the "
+                "uncertainty was widened to match"
+            )
+            if row.p_value < 0.01:
+                notes.append(
+                    "the runs disagree strongly: look for a run with a mistake before trusting "
+                    "the combined value"
+                )
+        if row.n > 1 and summary is not None:
+            flags_here = summary[row.sample]
+            shared_names = [INPUT_LABELS[name] for name in shared
+                            if flags_here[f"all_{name}"] and flags_here[f"big_{name}"]]
+            if shared_names:
+                notes.append(
+                    "common to all runs, so not reduced by averaging: " + ", ".join(shared_names)
+                )
+    empty = [name for name, members in sample_runs.items() if not members]
+    for name in empty:
+        sample_warnings[name].append("no run of this sample could be analysed")
+    return samples, sample_runs, sample_warnings
+
+
+def identify(
+    source,
+    *,
+    profile: InstrumentProfile | str | Path | None = None,
+    library=None,
+    rank: bool = True,
+    combine: bool = True,
+) -> Identification:
+    """Analyse a run file or DataFrame: molar mass, uncertainty, samples and candidates.
+
+    Parameters
+    ----------
+    source : str, pathlib.Path, file-like, pandas.DataFrame or RunTable
+        The runs (see :func:`molid.io.reading.read_runs`).
+    profile : InstrumentProfile or path, optional
+        Default uncertainties.
+    library : pandas.DataFrame, optional
+        Candidate library (see :func:`molid.candidates.library.load_library`); the default
+        library when None.
+    rank : bool
+        Evaluate and rank the candidates.
+    combine : bool
+        Combine the runs of each sample (off for chunks of a large file, whose
+        per-run output has no place for samples).
+
+    Returns
+    -------
+    Identification
+        Per-run and per-sample results.
+    """
+    if profile is None or isinstance(profile, (str, Path)):
+        profile = load_profile(profile)
+    table = source if isinstance(source, RunTable) else read_runs(source, profile=profile)
+    propagation, errors, warnings = evaluate_runs(table, profile)
+    ok = np.array([not row for row in errors], dtype=bool)
+    molar_mass = np.where(ok, propagation.value, np.nan)
+    u = np.where(ok, propagation.standard_uncertainty, np.nan)
+    budget = budget_percent(propagation.contributions)
+    if combine:
+        samples, sample_runs, sample_warnings = _sample_results(table, propagation, errors)
+    else:
+        samples = pd.DataFrame({"sample": pd.Series([], dtype=object), "n": [], "value": [],
+                                "u": [], "birge_ratio": [], "widened": []})
+        sample_runs, sample_warnings = {}, {}
+    result = Identification(
+        table=table,
+        molar_mass=molar_mass,
+        u=u,
+        errors=errors,
+        warnings=warnings,
+        budget=budget,
+        propagation=propagation,
+        samples=samples,
+        sample_runs=sample_runs,
+        sample_warnings=sample_warnings,
+        notes=list(table.notes),
+    )
+    if rank:
+        from molid.candidates.ranking import rank_identification
+
+        rank_identification(result, library=library)
+    return result

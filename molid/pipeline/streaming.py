@@ -1,0 +1,270 @@
+"""Large run files: analyse in chunks, write the per-run CSV as it goes, in bounded memory.
+
+A file of any length is read ``chunk_rows`` rows at a time; each chunk is
+validated, evaluated and ranked against the full library, and its rows are
+appended to a temporary file that replaces the output only when the whole file
+is done. Memory holds one chunk plus 24 bytes per run id seen (for duplicate
+ids across chunks). Replicates are not combined in this mode, since the
+per-run CSV has no place for samples; the JSON and terminal outputs of
+:func:`molid.pipeline.identify.identify` combine them for files that fit in memory.
+"""
+
+from __future__ import annotations
+
+import codecs
+import os
+import sys
+import time
+from collections import deque
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import pandas as pd
+
+from molid.io.profiles import InstrumentProfile, load_profile
+from molid.io.reading import InputError, RunIds, _sniff_separator, first_uses, parse_runs
+from molid.io.safe_files import atomic_output
+from molid.pipeline.identify import identify
+
+__all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv"]
+
+#: Rows per chunk: large enough that numpy's per-call overhead is small, small
+#: enough that a chunk's candidate arrays (rows × about 100 candidates) stay in
+#: tens of megabytes.
+DEFAULT_CHUNK_ROWS = 10_000
+_MAX_LISTED = 20
+
+
+@dataclass
+class StreamSummary:
+    """What a streamed run produced."""
+
+    runs: int = 0
+    rows_with_errors: int = 0
+    rows_with_warnings: int = 0
+    errors: list = field(default_factory=list)
+    notes: list = field(default_factory=list)
+    seconds: float = 0.0
+
+
+def count_data_lines(path) -> int:
+    """Lines after the header (an upper bound on the runs: blank lines count too)."""
+    lines = 0
+    last = b"\n"
+    with open(path, "rb") as stream:
+        while block := stream.read(1 << 24):
+            lines += block.count(b"\n")
+            last = block[-1:]
+    return max(lines - 1 + (last != b"\n"), 0)
+
+
+def _check_utf8(path) -> str:
+    """'utf-8-sig' when the file decodes as UTF-8, else 'cp1252' (a note says so)."""
+    decoder = codecs.getincrementaldecoder("utf-8")()
+    with open(path, "rb") as stream:
+        try:
+            while block := stream.read(1 << 24):
+                decoder.decode(block)
+            decoder.decode(b"", final=True)
+        except UnicodeDecodeError:
+            return "cp1252"
+    return "utf-8-sig"
+
+
+def _merge_notes(collected: dict) -> list:
+    """Merge the notes of all chunks: once each, "some rows" where chunks differ."""
+    merged = []
+    for note in collected:
+        some = note.replace(" for every row", " for some rows")
+        if some != note and some in collected:
+            continue
+        merged.append(note)
+    return merged
+
+
+class _Progress:
+    """A one-line progress report on stderr, only when stderr is a terminal."""
+
+    def __init__(self, total: int, enabled: bool | None = None):
+        self.total = max(total, 1)
+        self.enabled = sys.stderr.isatty() if enabled is None else enabled
+        self.last = 0.0
+
+    def update(self, done: int, final: bool = False) -> None:
+        if not self.enabled:
+            return
+        now = time.monotonic()
+        if not final and now - self.last < 0.2:
+            return
+        self.last = now
+        share = min(done / self.total, 1.0)
+        bar = "#" * int(share * 30)
+        sys.stderr.write(f"\rmolid: [{bar:<30}] {done:,} of about {self.total:,} runs "
+                         f"({share * 100:3.0f} %)")
+        if final:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path | None = None,
+                    library=None, chunk_rows: int = DEFAULT_CHUNK_ROWS,
+                    progress: bool | None = None, workers: int | None = None) -> StreamSummary:
+    """Analyse a CSV run file chunk by chunk and write the per-run CSV.
+
+    Parameters
+    ----------
+    source : str or pathlib.Path
+        A CSV file (comma or semicolon separated).
+    output : str or pathlib.Path
+        The CSV to write; replaced only when the whole file is done.
+    profile : InstrumentProfile or path, optional
+        Default uncertainties.
+    library : pandas.DataFrame, optional
+        Candidate library; the default library when None.
+    chunk_rows : int
+        Rows per chunk.
+    progress : bool, optional
+        Show a progress line on stderr; by default only when stderr is a terminal.
+    workers : int, optional
+        Processes that analyse chunks in parallel (default: up to 2, the cores this
+        process may use). The output is the same for any number.
+
+    Returns
+    -------
+    StreamSummary
+        Counts, the first error messages, and the file's notes.
+
+    Raises
+    ------
+    InputError
+        When the file cannot be read or has no data rows.
+    """
+    from molid.candidates.library import load_library
+
+    started = time.monotonic()
+    if profile is None or isinstance(profile, (str, Path)):
+        profile = load_profile(profile)
+    library = load_library() if library is None else library
+    path = Path(source)
+    try:
+        with open(path, "rb") as stream:
+            head = stream.read(1 << 16)
+    except FileNotFoundError:
+        raise InputError(f"{path}: no such file") from None
+    except OSError as error:
+        raise InputError(f"{path}: cannot read it ({error.strerror})") from None
+    if not head.strip():
+        raise InputError(f"{path}: the file is empty; expected a header row and data rows")
+    encoding = _check_utf8(path)
+    notes: dict = {}
+    if encoding == "cp1252":
+        notes["the file is not valid UTF-8; it was read as Windows-1252"] = None
+    separator = _sniff_separator(head.decode(encoding, errors="replace"))
+    progress_line = _Progress(count_data_lines(path), progress)
+    summary = StreamSummary()
+    seen = RunIds()
+    output = Path(output)
+    decimal_comma = separator in (";", "\t")
+    workers = _worker_count(workers)
+    pool = None
+    try:
+        with atomic_output(output, "w") as sink:
+            reader = pd.read_csv(path, sep=separator, dtype=str, keep_default_na=False,
+                                 skip_blank_lines=False, skipinitialspace=True,
+                                 encoding=encoding, chunksize=chunk_rows)
+            if workers > 1:
+                pool = _start_pool(workers, profile, library)
+            pending: deque = deque()
+
+            def collect(outcome):
+                text, runs, errors, n_errors, n_warnings, chunk_notes = outcome
+                if runs == 0:
+                    return
+                if summary.runs and text:
+                    text = text.split("\n", 1)[1]  # every chunk's CSV starts with the header
+                sink.write(text)
+                summary.runs += runs
+                summary.rows_with_errors += n_errors
+                summary.rows_with_warnings += n_warnings
+                summary.errors.extend(errors[: _MAX_LISTED - len(summary.errors)])
+                for note in chunk_notes:
+                    notes.setdefault(note, None)
+                progress_line.update(summary.runs)
+
+            first_row = 2
+            try:
+                for raw in reader:
+                    raw.columns = [str(column) for column in raw.columns]
+                    first_use = first_uses(raw, seen, first_row)
+                    job = (raw, decimal_comma, first_row, first_use, str(path))
+                    first_row += len(raw)
+                    if pool is None:
+                        collect(_chunk_job(job, profile, library))
+                        continue
+                    pending.append(pool.submit(_chunk_job, job))
+                    while len(pending) > workers:  # bounded: a few chunks in flight at most
+                        collect(pending.popleft().result())
+                while pending:
+                    collect(pending.popleft().result())
+            except pd.errors.EmptyDataError:
+                raise InputError(f"{path}: no header row found") from None
+            except pd.errors.ParserError as error:
+                raise InputError(f"{path}: cannot read it as CSV ({error})") from None
+            if summary.runs == 0:
+                raise InputError(f"{path}: the file has a header but no data rows")
+    finally:
+        if pool is not None:
+            pool.shutdown(wait=True, cancel_futures=True)
+    progress_line.update(summary.runs, final=True)
+    summary.notes = _merge_notes(notes)
+    summary.notes.append("replicates were not combined: a large file written straight to CSV "
+                         "gives one row per run")
+    summary.seconds = time.monotonic() - started
+    return summary
+
+
+def _worker_count(requested) -> int:
+    if requested is not None:
+        return max(1, int(requested))
+    return max(1, min(2, len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity")
+                      else (os.cpu_count() or 1)))
+
+
+_WORKER_STATE: dict = {}
+
+
+def _initialise_worker(profile, library):
+    import gc
+
+    _WORKER_STATE["profile"] = profile
+    _WORKER_STATE["library"] = library
+    # The loaded modules and library live as long as the worker: keep them out of the
+    # collector's way so each chunk's garbage collection only looks at the chunk.
+    gc.freeze()
+
+
+def _start_pool(workers, profile, library):
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    methods = multiprocessing.get_all_start_methods()
+    context = multiprocessing.get_context("fork" if "fork" in methods else "spawn")
+    return ProcessPoolExecutor(max_workers=workers, mp_context=context,
+                               initializer=_initialise_worker, initargs=(profile, library))
+
+
+def _chunk_job(job, profile=None, library=None):
+    """Validate, evaluate and rank one chunk; return its CSV text and what the summary needs."""
+    from molid.io.export import to_csv
+
+    profile = profile if profile is not None else _WORKER_STATE["profile"]
+    library = library if library is not None else _WORKER_STATE["library"]
+    raw, decimal_comma, first_row, first_use, source = job
+    table = parse_runs(raw, decimal_comma=decimal_comma, profile=profile, first_row=first_row,
+                       source=source, require_rows=False, first_use_of_rows=first_use)
+    if len(table) == 0:
+        return "", 0, [], 0, 0, []
+    result = identify(table, profile=profile, library=library, combine=False)
+    bad = [row for row in result.errors if row]
+    return (to_csv(result, header=True), len(table), ["; ".join(row) for row in bad[:_MAX_LISTED]],
+            len(bad), sum(1 for row in result.warnings if row), list(table.notes))

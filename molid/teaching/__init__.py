@@ -1,0 +1,1 @@
+"""Teaching: grading a section against a rubric, diagnosing classic mistakes, class plots."""

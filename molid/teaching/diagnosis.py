@@ -1,0 +1,409 @@
+"""Diagnosis of the classic mistakes of a gas-density calculation, vectorised over runs.
+
+A student's reported molar mass is compared with molid's ideal-gas
+recomputation from the student's own readings. Where the two disagree, the
+readings are recomputed once for every variant of every classic mistake (each
+variant a change to the student's arithmetic), and each mistake whose result
+agrees with the reported value within its uncertainty is listed.
+
+=================== ========================================================
+code                the student's arithmetic
+=================== ========================================================
+celsius-as-kelvin   the gas temperature in °C put into the gas law as kelvin
+volume-unit         the volume in mL used as litres, or litres used as mL
+pressure-unit       a pressure in one of mmHg (torr), atm, kPa, bar used as
+                    if it were in another
+no-buoyancy         an air-tared bulb or a syringe: the mass of the displaced
+                    air not added to the change of the balance reading
+masses-swapped      tare and filled readings exchanged
+gas-constant-units  R in units that do not fit the pressure and volume used
+                    (L·atm, L·mmHg, L·bar, J and cal values of R mixed up)
+unexplained         disagrees, and no single mistake explains it
+=================== ========================================================
+
+Every variant changes only the student's side of the calculation: the
+displaced-air term, the mass difference, or the T, p, V and R put into
+M = m·R·T/(p·V). The air density and the water vapour of a wet gas are those of
+molid's own model. Two mistakes with the same arithmetic effect (R in L·atm
+with the pressure in kPa is the pressure in kPa used as atm) are both listed.
+
+The uncertainty of each recomputation is propagated (GUM law of propagation,
+complex-step sensitivities) from the readings' uncertainties and two terms for
+the student's arithmetic: a relative tolerance (rounded constants) and the
+uncertainty of the air density a student uses for the displaced air. The
+rounding of the reported number (half a unit of its last written digit,
+rectangular) is added in quadrature.
+
+References
+----------
+JCGM 100:2008, Evaluation of measurement data -- Guide to the expression of
+uncertainty in measurement (GUM), 5.1.2 (propagation), 6.2 (expanded
+uncertainty), F.2.2.1 (resolution of a written value: u = d/√12).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from molid.io.units import registry, resolve_unit
+from molid.methods.model import gas_mass, ideal_gas_molar_mass, measurement_model
+from molid.physics.constants import GAS_CONSTANT, ZERO_CELSIUS
+from molid.uncertainty.propagation import COVERAGE_FACTOR, propagate
+
+__all__ = [
+    "MISTAKE_CODES",
+    "UNEXPLAINED",
+    "DESCRIPTIONS",
+    "Variant",
+    "mistake_variants",
+    "mistake_model",
+    "Diagnosis",
+    "diagnose",
+]
+
+MISTAKE_CODES = (
+    "celsius-as-kelvin",
+    "volume-unit",
+    "pressure-unit",
+    "no-buoyancy",
+    "masses-swapped",
+    "gas-constant-units",
+)
+UNEXPLAINED = "unexplained"
+
+#: Plain words for a student sheet, one per code.
+DESCRIPTIONS = {
+    "celsius-as-kelvin": "the temperature is used in °C instead of K",
+    "volume-unit": "the volume is used in the wrong unit (mL taken as L, or L as mL)",
+    "pressure-unit": "the pressure is used in the wrong unit (mmHg, torr, atm, kPa and bar "
+                     "mixed up)",
+    "no-buoyancy": "the mass of the air the bulb or syringe displaces is left out",
+    "masses-swapped": "the tare and filled readings are exchanged",
+    "gas-constant-units": "R is taken in units that do not match the pressure and volume",
+    UNEXPLAINED: "no single classic mistake explains the difference between your result and "
+                 "your readings; check the arithmetic step by step",
+}
+
+_PRESSURE_UNITS = {"mmHg (torr)": "mmHg", "atm": "atm", "kPa": "kPa", "bar": "bar"}
+_MASS_AS_MEASURED, _MASS_NO_BUOYANCY, _MASS_SWAPPED = 0, 1, 2
+
+
+@dataclass(frozen=True)
+class Variant:
+    """One way of making one mistake: changes to the student's arithmetic.
+
+    Attributes
+    ----------
+    code : str
+        The mistake's code (one of :data:`MISTAKE_CODES`; ``""`` for the correct
+        calculation).
+    words : str
+        What the student did, in plain words.
+    temperature_offset : float
+        Subtracted from the gas temperature put into the gas law [K].
+    volume_factor, pressure_factor, gas_constant_factor : float
+        Multiply V, p and R in the gas law.
+    mass_mode : int
+        0 mass as measured, 1 displaced air left out, 2 tare and filled exchanged.
+    """
+
+    code: str
+    words: str
+    temperature_offset: float = 0.0
+    volume_factor: float = 1.0
+    pressure_factor: float = 1.0
+    gas_constant_factor: float = 1.0
+    mass_mode: int = _MASS_AS_MEASURED
+
+
+def _gas_constants() -> dict:
+    """R in the unit systems students meet: unit text -> (value, what it fits)."""
+    ureg = registry()
+    litre_pressure = {
+        "L·atm/(mol·K)": ("atm", "a pressure in atm and a volume in L"),
+        "L·mmHg/(mol·K)": ("mmHg", "a pressure in mmHg (torr) and a volume in L"),
+        "L·bar/(mol·K)": ("bar", "a pressure in bar and a volume in L"),
+    }
+    litre = float(ureg.Quantity(1.0, "L").to("m**3").magnitude)
+    systems = {"J/(mol·K)": (GAS_CONSTANT, "a pressure in kPa and a volume in L (or Pa and m³)")}
+    for text, (unit, fits) in litre_pressure.items():
+        systems[text] = (GAS_CONSTANT / (resolve_unit("pressure", unit).scale * litre), fits)
+    calorie = float(ureg.Quantity(1.0, "cal").to("J").magnitude)
+    systems["cal/(mol·K)"] = (GAS_CONSTANT / calorie, None)
+    return systems
+
+
+def mistake_variants() -> list[Variant]:
+    """Every variant of every classic mistake, the correct calculation first.
+
+    Returns
+    -------
+    list of Variant
+        ``variants[0]`` is the correct calculation (code ``""``).
+
+    Examples
+    --------
+    >>> variants = mistake_variants()
+    >>> variants[0].code, sorted({v.code for v in variants[1:]}) == sorted(MISTAKE_CODES)
+    ('', True)
+    """
+    variants = [Variant("", "the calculation is done correctly")]
+    variants.append(Variant("celsius-as-kelvin", "the temperature is used in °C instead of K",
+                            temperature_offset=ZERO_CELSIUS))
+    variants.append(Variant("volume-unit", "the volume in mL is used as if it were in L",
+                            volume_factor=1e3))
+    variants.append(Variant("volume-unit", "the volume in L is used as if it were in mL",
+                            volume_factor=1e-3))
+    for read, read_unit in _PRESSURE_UNITS.items():
+        for used, used_unit in _PRESSURE_UNITS.items():
+            if read == used:
+                continue
+            # a number x read in `read` is used as x `used`: p_used / p = scale(used)/scale(read)
+            factor = resolve_unit("pressure", used_unit).scale / resolve_unit(
+                "pressure", read_unit).scale
+            variants.append(Variant("pressure-unit", f"the pressure in {read} is used as if it "
+                                    f"were in {used}", pressure_factor=factor))
+    constants = _gas_constants()
+    for fitting, (value, fits) in constants.items():
+        if fits is None:
+            continue
+        for used, (used_value, _) in constants.items():
+            if used == fitting:
+                continue
+            variants.append(Variant(
+                "gas-constant-units",
+                f"R = {used_value:.5g} {used} is used with {fits} (which need R = "
+                f"{value:.5g} {fitting})",
+                gas_constant_factor=used_value / value,
+            ))
+    variants.append(Variant("no-buoyancy", "the mass of the displaced air is not added to the "
+                            "change of the balance reading", mass_mode=_MASS_NO_BUOYANCY))
+    variants.append(Variant("masses-swapped", "the tare and filled readings are exchanged",
+                            mass_mode=_MASS_SWAPPED))
+    return variants
+
+
+def mistake_model(
+    mass_tare,
+    mass_filled,
+    volume,
+    temperature,
+    pressure,
+    humidity,
+    air_temperature,
+    air_pressure,
+    co2,
+    air_density_formula,
+    water_vapour,
+    student_air_density,
+    student_arithmetic,
+    *,
+    method_code,
+    wet,
+    air_temperature_given,
+    air_pressure_given,
+    temperature_offset,
+    volume_factor,
+    pressure_factor,
+    gas_constant_factor,
+    mass_mode,
+):
+    r"""Compute the molar mass a student gets from the readings with a given mistake [kg/mol].
+
+    Parameters
+    ----------
+    mass_tare, mass_filled, volume, temperature, pressure : array_like
+        Readings as in :func:`molid.methods.model.measurement_model` [kg, m³, K, Pa].
+    humidity, air_temperature, air_pressure, co2, air_density_formula, water_vapour : array_like
+        The other inputs of :func:`molid.methods.model.measurement_model` (SI units).
+    student_air_density : array_like
+        Offset of the air density the student uses for the displaced air from
+        molid's [kg/m³] (value 0; carries the uncertainty of a handbook value).
+    student_arithmetic : array_like
+        Relative offset of the student's arithmetic (value 0; carries the rounding
+        of constants).
+    method_code, wet, air_temperature_given, air_pressure_given : array_like
+        Flags of :func:`molid.methods.model.measurement_model`.
+    temperature_offset, volume_factor, pressure_factor, gas_constant_factor : array_like
+        The variant's changes to T [K], V, p and R (see :class:`Variant`).
+    mass_mode : array_like of int
+        0 as measured, 1 displaced air left out, 2 tare and filled exchanged.
+
+    Returns
+    -------
+    dict of numpy.ndarray
+        ``molar_mass`` [kg/mol] and the model's intermediate values.
+
+    Notes
+    -----
+    .. math:: M' = \frac{m'\,(R f_R)\,(T - T_0)}{(p_d f_p)\,(V f_V)}\,(1 + \epsilon)
+
+    with m' the mass the student takes (as measured, without the displaced air,
+    or from the exchanged readings), less the water of a wet gas, and p_d the
+    dry-gas pressure.
+    """
+    correct = measurement_model(
+        mass_tare, mass_filled, volume, temperature, pressure, humidity, air_temperature,
+        air_pressure, co2, air_density_formula, water_vapour, method_code=method_code, wet=wet,
+        air_temperature_given=air_temperature_given, air_pressure_given=air_pressure_given,
+    )
+    air_density = correct["air_density"] + student_air_density
+    as_measured = gas_mass(mass_tare, mass_filled, volume, air_density, method_code)
+    # an evacuated bulb's formula has no displaced-air term: that is the mistake
+    no_buoyancy = gas_mass(mass_tare, mass_filled, volume, air_density, np.zeros_like(method_code))
+    swapped = gas_mass(mass_filled, mass_tare, volume, air_density, method_code)
+    total = np.where(mass_mode == _MASS_SWAPPED, swapped,
+                     np.where(mass_mode == _MASS_NO_BUOYANCY, no_buoyancy, as_measured))
+    mass = total - correct["water_mass"]
+    molar_mass = ideal_gas_molar_mass(
+        mass, temperature - temperature_offset, correct["dry_pressure"] * pressure_factor,
+        volume * volume_factor,
+    ) * gas_constant_factor * (1.0 + student_arithmetic)
+    return {**correct, "molar_mass": molar_mass}
+
+
+@dataclass
+class Diagnosis:
+    """The diagnosis of every run.
+
+    Attributes
+    ----------
+    codes : list of list of str
+        Mistake codes per run ([] when the reported value agrees or is absent).
+    text : list of str
+        Plain words per run ("" when there is nothing to say).
+    agrees : numpy.ndarray of bool
+        The reported value agrees with the recomputation (True where not reported).
+    recomputed, u_recomputed : numpy.ndarray
+        The correct recomputation and its standard uncertainty including the
+        student's arithmetic [kg/mol].
+    normalised_deviation : numpy.ndarray
+        (reported − recomputed)/u of the comparison; NaN where not reported.
+    variant_values : numpy.ndarray
+        Shape (variants, runs): every variant's molar mass [kg/mol].
+    variants : list of Variant
+        The variants, in the order of ``variant_values``.
+    """
+
+    codes: list
+    text: list
+    agrees: np.ndarray
+    recomputed: np.ndarray
+    u_recomputed: np.ndarray
+    normalised_deviation: np.ndarray
+    variant_values: np.ndarray
+    variants: list
+
+
+def diagnose(values, uncertainties, static, reported, u_reported, *, arithmetic_tolerance=0.001,
+             air_density_tolerance=0.01, usable=None) -> Diagnosis:
+    r"""Diagnose each run's reported molar mass against recomputations with each mistake.
+
+    Parameters
+    ----------
+    values, uncertainties, static : dict
+        The model inputs of every run, as :func:`molid.pipeline.identify.model_inputs` returns
+        them (SI units).
+    reported : array_like
+        The student's molar mass [kg/mol]; NaN where not reported.
+    u_reported : array_like
+        Standard uncertainty of the written value from its rounding [kg/mol].
+    arithmetic_tolerance : float
+        Relative standard uncertainty of the student's arithmetic [fraction].
+    air_density_tolerance : float
+        Standard uncertainty of the student's air density [kg/m³].
+    usable : array_like of bool, optional
+        Runs whose readings can be evaluated; others get no diagnosis.
+
+    Returns
+    -------
+    Diagnosis
+        Codes and words per run.
+
+    Notes
+    -----
+    A run agrees when :math:`|M_r - M| \le k\sqrt{u^2(M) + u_r^2}` (k = 2); a
+    variant explains it when :math:`|M_r - M'| \le k\sqrt{u^2(M') + u_r^2}`. For the
+    mass mistakes the sign of M' may be dropped by the student, so |M'| is also tried.
+
+    References
+    ----------
+    JCGM 100:2008 (GUM), 5.1.2 and 6.2.
+    """
+    reported = np.asarray(reported, dtype=float)
+    runs = len(reported)
+    usable = np.ones(runs, dtype=bool) if usable is None else np.asarray(usable, dtype=bool)
+    variants = mistake_variants()
+    count = len(variants)
+    tiled_values = {name: np.tile(np.asarray(item, dtype=float), count)
+                    for name, item in values.items()}
+    tiled_u = {name: np.tile(np.asarray(item, dtype=float), count)
+               for name, item in uncertainties.items()}
+    method_code = np.asarray(static["method_code"])
+    displaces = method_code != 0
+    tiled_values["student_air_density"] = np.zeros(runs * count)
+    tiled_u["student_air_density"] = np.tile(np.where(displaces, air_density_tolerance, 0.0),
+                                             count)
+    tiled_values["student_arithmetic"] = np.zeros(runs * count)
+    tiled_u["student_arithmetic"] = np.full(runs * count, arithmetic_tolerance)
+    tiled_static = {name: np.tile(np.asarray(item), count) for name, item in static.items()}
+    for name in ("temperature_offset", "volume_factor", "pressure_factor", "gas_constant_factor",
+                 "mass_mode"):
+        tiled_static[name] = np.repeat(np.array([getattr(v, name) for v in variants]), runs)
+    # rows that cannot be evaluated get harmless stand-ins, so the arrays stay finite
+    safe = np.tile(usable, count)
+    for name in tiled_values:
+        tiled_values[name] = np.where(safe, tiled_values[name], 1.0)
+    tiled_values["air_density_formula"] = np.where(safe, tiled_values["air_density_formula"], 0.0)
+    tiled_values["water_vapour"] = np.where(safe, tiled_values["water_vapour"], 0.0)
+    tiled_values["student_air_density"] = np.zeros(runs * count)
+    tiled_values["student_arithmetic"] = np.zeros(runs * count)
+    tiled_values["humidity"] = np.where(safe, tiled_values["humidity"], 0.5)
+    tiled_values["co2"] = np.where(safe, tiled_values["co2"], 0.0004)
+    with np.errstate(all="ignore"):
+        propagation = propagate(mistake_model, tiled_values, tiled_u, tiled_static,
+                                output="molar_mass")
+    value = propagation.value.reshape(count, runs)
+    u = propagation.standard_uncertainty.reshape(count, runs)
+    u_reported = np.nan_to_num(np.asarray(u_reported, dtype=float))
+    with np.errstate(invalid="ignore"):
+        window = COVERAGE_FACTOR * np.sqrt(u**2 + u_reported**2)
+        deviation = np.abs(reported - value)
+        mass_mistake = np.array([v.mass_mode != _MASS_AS_MEASURED for v in variants])[:, None]
+        deviation = np.where(mass_mistake, np.minimum(deviation, np.abs(reported + value)),
+                             deviation)
+        fits = deviation <= window
+        normalised = (reported - value[0]) / (window[0] / COVERAGE_FACTOR)
+    reported_here = np.isfinite(reported) & usable
+    agrees = ~reported_here | fits[0]
+    applicable = np.ones((count, runs), dtype=bool)
+    no_buoyancy = np.array([v.code == "no-buoyancy" for v in variants])
+    applicable[no_buoyancy] = displaces
+    fits = fits & applicable & (reported_here & ~agrees)[None, :]
+    # closeness of each fitting variant, to name the best one per code
+    closeness = np.where(fits, deviation / np.where(window > 0, window, np.inf), np.inf)
+    codes, text = [], []
+    for run in range(runs):
+        if agrees[run]:
+            codes.append([])
+            text.append("")
+            continue
+        found = np.flatnonzero(fits[:, run])
+        if not len(found):
+            codes.append([UNEXPLAINED])
+            text.append(DESCRIPTIONS[UNEXPLAINED])
+            continue
+        best = {}
+        for index in found[np.argsort(closeness[found, run], kind="stable")]:
+            best.setdefault(variants[index].code, index)
+        run_codes = [code for code in MISTAKE_CODES if code in best]
+        codes.append(run_codes)
+        text.append("your result is what you get if " + "; or if ".join(
+            variants[best[code]].words for code in run_codes))
+    return Diagnosis(codes=codes, text=text, agrees=agrees, recomputed=value[0],
+                     u_recomputed=u[0], normalised_deviation=np.where(reported_here, normalised,
+                                                                      np.nan),
+                     variant_values=value, variants=variants)
+
