@@ -32,7 +32,7 @@ import periodictable
 from periodictable.formulas import from_subscript
 
 from molid.physics.formulas import hill_formula, molar_mass
-from molid.physics.realgas import POLAR_CLASSES
+from molid.physics.virial import POLAR_CLASSES
 
 __all__ = [
     "DEFAULT_LIBRARY_PATH",

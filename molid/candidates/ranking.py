@@ -28,16 +28,16 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from molid.methods.model import INPUT_LABELS
-from molid.physics.constants import GAS_CONSTANT
-from molid.physics.realgas import (
-    second_virial,
-    vapour_pressure_ambrose_walton,
+from molid.candidates.model_terms import (
     vapour_pressure_relative_uncertainty,
     virial_relative_uncertainty,
     virial_truncation_uncertainty,
     virial_uncertainty,
 )
+from molid.methods.model import INPUT_LABELS
+from molid.physics.constants import GAS_CONSTANT
+from molid.physics.vapour_pressure import vapour_pressure_ambrose_walton
+from molid.physics.virial import second_virial
 from molid.physics.water import saturation_pressure_water
 
 __all__ = [
@@ -96,7 +96,7 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
     :math:`M\,\partial Z/\partial T` for temperature and
     :math:`M\,\partial Z/\partial p` for pressure; the model term combines
     u(B) from the correlation with the truncation term of
-    :func:`molid.physics.realgas.virial_truncation_uncertainty`.
+    :func:`molid.candidates.model_terms.virial_truncation_uncertainty`.
 
     References
     ----------

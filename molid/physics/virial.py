@@ -1,15 +1,11 @@
-r"""Real-gas corrections at laboratory pressures and corresponding-states vapour pressures.
+r"""Second virial coefficients and compressibility factors of real gases at laboratory pressures.
 
 The second virial coefficient :math:`B(T)` comes from the Tsonopoulos
 corresponding-states correlation with its polar terms (and effective critical
 constants for the quantum gases); the compressibility factor from the virial
 equation truncated after :math:`B` (pressure form by default, density form on
-request); the vapour pressure from the Lee–Kesler or the Ambrose–Walton
-estimate. Each model carries a standard uncertainty per polar class, read from
-``molid/data/virial_model.csv``, whose ``basis`` columns record the comparison
-against reference equations of state that sized it: :func:`virial_uncertainty`
-for B, :func:`virial_truncation_uncertainty` for the neglected higher virial
-terms, :func:`vapour_pressure_relative_uncertainty` for the vapour pressure.
+request). The model uncertainty of each correlation lives with the candidates
+(:mod:`molid.candidates.model_terms`).
 
 All functions take plain numbers or numpy arrays in SI base units and broadcast
 their arguments against each other, so an array of runs of shape ``(n, 1)``
@@ -22,16 +18,10 @@ Complex-step safety
 :func:`compressibility_factor` use only arithmetic on temperature and pressure
 (no ``abs``, ``maximum``, ``clip`` or comparisons), so they accept complex
 temperature and pressure and give exact complex-step derivatives,
-:math:`\partial f/\partial x = \operatorname{Im} f(x + ih)/h`. The vapour-pressure
-estimates branch on the reduced temperature with ``np.where`` and are not meant
-to be differentiated.
+:math:`\partial f/\partial x = \operatorname{Im} f(x + ih)/h`.
 """
 
 from __future__ import annotations
-
-import csv
-from functools import lru_cache
-from importlib import resources
 
 import numpy as np
 
@@ -39,6 +29,7 @@ from molid.physics.constants import GAS_CONSTANT, STANDARD_ATMOSPHERE
 
 __all__ = [
     "POLAR_CLASSES",
+    "polar_class_array",
     "reduced_dipole",
     "tsonopoulos_polar_coefficients",
     "second_virial_tsonopoulos",
@@ -48,13 +39,6 @@ __all__ = [
     "quantum_effective_critical_constants",
     "second_virial",
     "compressibility_factor",
-    "vapour_pressure_lee_kesler",
-    "vapour_pressure_ambrose_walton",
-    "load_virial_model",
-    "virial_relative_uncertainty",
-    "virial_uncertainty",
-    "virial_truncation_uncertainty",
-    "vapour_pressure_relative_uncertainty",
 ]
 
 #: Polar classes known to the model, in the vocabulary of the candidate library.
@@ -138,7 +122,8 @@ def reduced_dipole(dipole_moment_D, critical_temperature, critical_pressure):
     return 1.0e5 * dipole**2 * pressure_atm / np.asarray(critical_temperature) ** 2
 
 
-def _as_class_array(polar_class):
+def polar_class_array(polar_class):
+    """Check polar class names against :data:`POLAR_CLASSES` and return them as an array."""
     classes = np.asarray(polar_class, dtype=str)
     unknown = ~np.isin(classes, POLAR_CLASSES)
     if np.any(unknown):
@@ -220,7 +205,7 @@ def tsonopoulos_polar_coefficients(polar_class, reduced_dipole, hill_formula=Non
     >>> a.tolist(), [round(x, 5) for x in b.tolist()]
     ([0.0878, -0.0109], [0.05152, 0.0])
     """
-    classes = _as_class_array(polar_class)
+    classes = polar_class_array(polar_class)
     dipole = np.asarray(reduced_dipole, dtype=float)
     classes, dipole = np.broadcast_arrays(classes, dipole)
     dipole_8 = dipole**8
@@ -591,7 +576,7 @@ def second_virial(
     (2, 2)
     """
     temperature = np.asarray(temperature)
-    classes = _as_class_array(polar_class)
+    classes = polar_class_array(polar_class)
     critical_temperature = np.asarray(critical_temperature, dtype=float)
     critical_pressure = np.asarray(critical_pressure, dtype=float)
     mu_r = reduced_dipole(dipole_moment_D, critical_temperature, critical_pressure)
@@ -698,348 +683,3 @@ def compressibility_factor(temperature, pressure, second_virial, form="pressure"
     if form == "density":
         return 0.5 * (1.0 + np.sqrt(1.0 + 4.0 * beta))
     raise ValueError(f"unknown form {form!r}; expected 'pressure' or 'density'")
-
-
-def _reduced_temperature_below_critical(temperature, critical_temperature):
-    reduced = np.asarray(temperature, dtype=float) / np.asarray(critical_temperature, dtype=float)
-    subcritical = reduced <= 1.0
-    # The correlations are evaluated on a safe value above Tc and replaced by
-    # +inf afterwards, so fractional powers of negative numbers never occur.
-    return np.where(subcritical, reduced, 1.0), subcritical
-
-
-def vapour_pressure_lee_kesler(
-    temperature, critical_temperature, critical_pressure, acentric_factor
-):
-    r"""Vapour pressure from the Lee–Kesler corresponding-states estimate.
-
-    Parameters
-    ----------
-    temperature : array_like
-        Temperature [K].
-    critical_temperature : array_like
-        Critical temperature [K].
-    critical_pressure : array_like
-        Critical pressure [Pa].
-    acentric_factor : array_like
-        Pitzer acentric factor [-].
-
-    Returns
-    -------
-    numpy.ndarray
-        Saturation pressure [Pa]; ``+inf`` above the critical temperature,
-        where the substance cannot condense.
-
-    Notes
-    -----
-    Lee & Kesler (1975), the vapour-pressure equation of the appendix, in the
-    form of Poling, Prausnitz & O'Connell (2001), eq. 7-4.1:
-
-    .. math::
-
-        \ln p_r = f^{(0)} + \omega f^{(1)}
-
-        f^{(0)} = 5.92714 - \frac{6.09648}{T_r} - 1.28862 \ln T_r + 0.169347\,T_r^6
-
-        f^{(1)} = 15.2518 - \frac{15.6875}{T_r} - 13.4721 \ln T_r + 0.43577\,T_r^6
-
-    From the triple point (roughly :math:`T_r \gtrsim 0.3`) to the critical
-    point; typically within a few percent for nonpolar substances, worse for
-    alcohols and water at low :math:`T_r`.
-
-    References
-    ----------
-    .. [1] B. I. Lee, M. G. Kesler, "A generalized thermodynamic correlation
-       based on three-parameter corresponding states", AIChE J. 21 (1975)
-       510–527. doi:10.1002/aic.690210313
-
-    Examples
-    --------
-    Ethylbenzene at 347.2 K, the inputs of the worked example of Reid,
-    Prausnitz & Poling, *The Properties of Gases and Liquids*, 4th ed. (1987)
-    (Tc = 617.1 K, Pc = 36.0 bar, ω = 0.299; experimental about 13.3 kPa,
-    from memory):
-
-    >>> round(float(vapour_pressure_lee_kesler(347.2, 617.1, 36e5, 0.299)))
-    13079
-    """
-    reduced, subcritical = _reduced_temperature_below_critical(temperature, critical_temperature)
-    log_reduced = np.log(reduced)
-    reduced_6 = reduced**6
-    f0 = 5.92714 - 6.09648 / reduced - 1.28862 * log_reduced + 0.169347 * reduced_6
-    f1 = 15.2518 - 15.6875 / reduced - 13.4721 * log_reduced + 0.43577 * reduced_6
-    pressure = np.asarray(critical_pressure) * np.exp(f0 + np.asarray(acentric_factor) * f1)
-    return np.where(subcritical, pressure, np.inf)
-
-
-def vapour_pressure_ambrose_walton(
-    temperature, critical_temperature, critical_pressure, acentric_factor
-):
-    r"""Vapour pressure from the Ambrose–Walton corresponding-states estimate.
-
-    Parameters
-    ----------
-    temperature : array_like
-        Temperature [K].
-    critical_temperature : array_like
-        Critical temperature [K].
-    critical_pressure : array_like
-        Critical pressure [Pa].
-    acentric_factor : array_like
-        Pitzer acentric factor [-].
-
-    Returns
-    -------
-    numpy.ndarray
-        Saturation pressure [Pa]; ``+inf`` above the critical temperature.
-
-    Notes
-    -----
-    Ambrose & Walton (1989), with :math:`\tau = 1 - T_r`:
-
-    .. math::
-
-        \ln p_r = f^{(0)} + \omega f^{(1)} + \omega^2 f^{(2)}
-
-        T_r f^{(0)} = -5.97616\,\tau + 1.29874\,\tau^{1.5} - 0.60394\,\tau^{2.5}
-                      - 1.06841\,\tau^5
-
-        T_r f^{(1)} = -5.03365\,\tau + 1.11505\,\tau^{1.5} - 5.41217\,\tau^{2.5}
-                      - 7.46628\,\tau^5
-
-        T_r f^{(2)} = -0.64771\,\tau + 2.41539\,\tau^{1.5} - 4.26979\,\tau^{2.5}
-                      + 3.25259\,\tau^5
-
-    Fitted to the n-alkanes and 1-alkanols from the triple point to the
-    critical point; the form of Poling, Prausnitz & O'Connell (2001), eq. 7-4.1.
-
-    References
-    ----------
-    .. [1] D. Ambrose, J. Walton, "Vapour pressures up to their critical
-       temperatures of normal alkanes and 1-alkanols", Pure Appl. Chem. 61
-       (1989) 1395–1403. doi:10.1351/pac198961081395
-    .. [2] B. E. Poling, J. M. Prausnitz, J. P. O'Connell, *The Properties of
-       Gases and Liquids*, 5th ed., McGraw-Hill, New York (2001), Sec. 7-4.
-
-    Examples
-    --------
-    Ethylbenzene at 347.25 K, the inputs of Example 7-2 of Poling et al.
-    (2001) (Tc = 617.15 K, Pc = 36.09 bar, ω = 0.304), which gives 0.1328 bar
-    (from memory):
-
-    >>> round(float(vapour_pressure_ambrose_walton(347.25, 617.15, 36.09e5, 0.304)))
-    13279
-    """
-    reduced, subcritical = _reduced_temperature_below_critical(temperature, critical_temperature)
-    tau = 1.0 - reduced
-    tau_15 = tau * np.sqrt(tau)
-    tau_25 = tau_15 * tau
-    tau_5 = tau_25 * tau_25
-    f0 = (-5.97616 * tau + 1.29874 * tau_15 - 0.60394 * tau_25 - 1.06841 * tau_5) / reduced
-    f1 = (-5.03365 * tau + 1.11505 * tau_15 - 5.41217 * tau_25 - 7.46628 * tau_5) / reduced
-    f2 = (-0.64771 * tau + 2.41539 * tau_15 - 4.26979 * tau_25 + 3.25259 * tau_5) / reduced
-    omega = np.asarray(acentric_factor)
-    pressure = np.asarray(critical_pressure) * np.exp(f0 + omega * f1 + omega**2 * f2)
-    return np.where(subcritical, pressure, np.inf)
-
-
-@lru_cache(maxsize=1)
-def load_virial_model():
-    """Model-uncertainty terms per polar class, from ``molid/data/virial_model.csv``.
-
-    Returns
-    -------
-    dict
-        ``{polar_class: row}``; each row is a dict of the file's columns, with
-        the ``u_`` and ``k_`` columns converted to float.
-
-    Raises
-    ------
-    ValueError
-        If a polar class of :data:`POLAR_CLASSES` is missing from the file.
-
-    Examples
-    --------
-    >>> sorted(load_virial_model()) == sorted(POLAR_CLASSES)
-    True
-    """
-    text = resources.files("molid").joinpath("data/virial_model.csv").read_text(encoding="utf-8")
-    rows = csv.DictReader(line for line in text.splitlines() if not line.startswith("#"))
-    table = {}
-    for row in rows:
-        for key in row:
-            if key.startswith(("u_", "k_")):
-                row[key] = float(row[key])
-        table[row["polar_class"]] = row
-    missing = set(POLAR_CLASSES) - set(table)
-    if missing:
-        raise ValueError(f"virial_model.csv lacks polar classes {sorted(missing)}")
-    return table
-
-
-def _lookup(polar_class, column):
-    classes = _as_class_array(polar_class)
-    table = load_virial_model()
-    names = np.array(sorted(table))
-    values = np.array([table[name][column] for name in names])
-    return values[np.searchsorted(names, classes)]
-
-
-def virial_relative_uncertainty(polar_class):
-    """Return the standard relative uncertainty of the Tsonopoulos B for each polar class.
-
-    Parameters
-    ----------
-    polar_class : array_like of str
-        Polar class, one of :data:`POLAR_CLASSES`.
-
-    Returns
-    -------
-    numpy.ndarray
-        u(B)/|B| [-], shaped like ``polar_class``.
-
-    Notes
-    -----
-    Sized so that about 95 % of the deviations of :func:`second_virial` from
-    the reference equations of state in CoolProp fall within twice the
-    combined term of :func:`virial_uncertainty`, at the temperatures where
-    each substance is weighed as a vapour; the ``basis_B`` column of the data
-    file gives the statistics. A Type B standard uncertainty in the sense of
-    JCGM 100:2008, 4.3.
-
-    References
-    ----------
-    .. [1] JCGM 100:2008, *Evaluation of measurement data — Guide to the
-       expression of uncertainty in measurement*, BIPM (2008).
-
-    Examples
-    --------
-    >>> u = virial_relative_uncertainty(["nonpolar", "alcohol"])
-    >>> bool(u[0] < u[1])
-    True
-    """
-    return _lookup(polar_class, "u_relative_B")
-
-
-def virial_uncertainty(polar_class, second_virial):
-    r"""Return the standard uncertainty of a correlated B: a relative term and an absolute floor.
-
-    Parameters
-    ----------
-    polar_class : array_like of str
-        Polar class, one of :data:`POLAR_CLASSES`.
-    second_virial : array_like
-        Second virial coefficient B [m³/mol], broadcast against ``polar_class``.
-
-    Returns
-    -------
-    numpy.ndarray
-        u(B) [m³/mol].
-
-    Notes
-    -----
-    .. math::
-
-        u(B) = \sqrt{(u_\mathrm{rel}\,B)^2 + u_\mathrm{abs}^2}
-
-    The absolute term matters near the Boyle temperature, where B passes
-    through zero and a purely relative term would vanish (nitrogen and carbon
-    monoxide at room temperature). Both terms come from ``virial_model.csv``.
-
-    Examples
-    --------
-    >>> u = virial_uncertainty("nonpolar", 0.0)
-    >>> bool(u > 0)
-    True
-    """
-    relative = _lookup(polar_class, "u_relative_B")
-    absolute = _lookup(polar_class, "u_absolute_B_m3_per_mol")
-    B = np.asarray(second_virial)
-    return np.sqrt((relative * B) ** 2 + absolute**2)
-
-
-def virial_truncation_uncertainty(
-    polar_class, temperature, pressure, second_virial, form="pressure"
-):
-    r"""Return the standard uncertainty of Z from truncating the virial series after B.
-
-    Parameters
-    ----------
-    polar_class : array_like of str
-        Polar class, one of :data:`POLAR_CLASSES`.
-    temperature : array_like
-        Gas temperature [K].
-    pressure : array_like
-        Gas pressure [Pa].
-    second_virial : array_like
-        Second virial coefficient B [m³/mol].
-    form : {"pressure", "density"}, optional
-        The form of :func:`compressibility_factor` in use.
-
-    Returns
-    -------
-    numpy.ndarray
-        u(Z) [-] from the neglected third and higher virial terms.
-
-    Notes
-    -----
-    .. math::
-
-        u(Z) = k \left(\frac{B p}{R T}\right)^2
-
-    with :math:`k` per class and form from ``virial_model.csv``, sized
-    against CoolProp (``basis_truncation``). For the pressure form the
-    neglected term is one-signed (the full equation of state gives a lower Z
-    than :math:`1 + Bp/RT` by about :math:`(Bp/RT)^2`); carried here as an
-    uncorrected systematic effect in the sense of JCGM 100:2008, F.2.4.5.
-
-    Examples
-    --------
-    n-Butane at 20 °C and 1 atm, B ≈ −730 cm³/mol:
-
-    >>> u = virial_truncation_uncertainty("nonpolar", 293.15, 101325.0, -730e-6)
-    >>> bool(5e-4 < float(u) < 6e-4)
-    True
-    """
-    columns = {"pressure": "k_truncation_pressure_form", "density": "k_truncation_density_form"}
-    if form not in columns:
-        raise ValueError(f"unknown form {form!r}; expected 'pressure' or 'density'")
-    factor = _lookup(polar_class, columns[form])
-    beta = (
-        np.asarray(second_virial) * np.asarray(pressure) / (GAS_CONSTANT * np.asarray(temperature))
-    )
-    return factor * beta**2
-
-
-def vapour_pressure_relative_uncertainty(polar_class, method="ambrose-walton"):
-    """Return the standard relative uncertainty of a vapour-pressure estimate per polar class.
-
-    Parameters
-    ----------
-    polar_class : array_like of str
-        Polar class, one of :data:`POLAR_CLASSES`.
-    method : {"ambrose-walton", "lee-kesler"}, optional
-        The estimate the term belongs to.
-
-    Returns
-    -------
-    numpy.ndarray
-        u(p_sat)/p_sat [-], shaped like ``polar_class``.
-
-    Notes
-    -----
-    Sized like :func:`virial_relative_uncertainty`, against CoolProp's
-    saturation pressures; see the ``basis_vapour_pressure`` column.
-
-    Examples
-    --------
-    >>> float(vapour_pressure_relative_uncertainty("nonpolar")) > 0
-    True
-    """
-    columns = {
-        "ambrose-walton": "u_relative_vapour_pressure_ambrose_walton",
-        "lee-kesler": "u_relative_vapour_pressure_lee_kesler",
-    }
-    if method not in columns:
-        raise ValueError(f"unknown method {method!r}; expected one of {sorted(columns)}")
-    return _lookup(polar_class, columns[method])
