@@ -537,10 +537,7 @@ def rank_identification(result, library=None):
         codes = mapped[in_sample].to_numpy(dtype=int)
         matrix = _group_matrix(codes, len(names), int(in_sample.sum()))
         u_run = prop.standard_uncertainty[index][in_sample]
-        from molid.pipeline.identify import shared_contributions
-
-        shared = {name: part[index][in_sample]
-                  for name, part in shared_contributions(table, prop, ok).items()}
+        shared = {name: part[index][in_sample] for name, part in result.shared.items()}
         shared_square = np.zeros_like(u_run)
         for part in shared.values():
             shared_square += part**2

@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from molid.candidates.ranking import rank_identification
 from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.reading import RunTable, read_runs
 from molid.io.units import MEASURED_INPUTS
@@ -53,6 +54,10 @@ class Identification:
         Sample id → list of run ids combined.
     sample_warnings : dict
         Sample id → list of warnings.
+    shared : dict of numpy.ndarray
+        Per input, each run's contribution common to all runs of its sample
+        [kg/mol] (see :func:`shared_contributions`); empty when samples are not
+        combined.
     ranking : object or None
         Per-candidate evaluation (see :mod:`molid.candidates.ranking`).
     notes : list of str
@@ -69,6 +74,7 @@ class Identification:
     samples: pd.DataFrame
     sample_runs: dict
     sample_warnings: dict
+    shared: dict = field(default_factory=dict)
     ranking: object = None
     sample_ranking: object = None
     notes: list = field(default_factory=list)
@@ -202,12 +208,11 @@ def shared_contributions(table: RunTable, propagation, ok) -> dict:
     return out
 
 
-def _sample_results(table: RunTable, propagation, errors):
+def _sample_results(table: RunTable, propagation, errors, shared):
     ok = np.array([not row for row in errors], dtype=bool)
     sample = table.text["sample"].to_numpy(dtype=object)
     has_sample = np.array([item is not None for item in sample], dtype=bool)
     runs = table.text["run"].to_numpy(dtype=object)
-    shared = shared_contributions(table, propagation, ok)
     u = propagation.standard_uncertainty
     samples = combine_replicates(sample, propagation.value, u, shared, ok & has_sample)
     # Group once; everything per sample below is a lookup, not a scan of all runs.
@@ -309,8 +314,10 @@ def identify(
     u = np.where(ok, propagation.standard_uncertainty, np.nan)
     budget = budget_percent(propagation.contributions)
     if combine:
-        samples, sample_runs, sample_warnings = _sample_results(table, propagation, errors)
+        shared = shared_contributions(table, propagation, ok)
+        samples, sample_runs, sample_warnings = _sample_results(table, propagation, errors, shared)
     else:
+        shared = {}
         samples = pd.DataFrame({"sample": pd.Series([], dtype=object), "n": [], "value": [],
                                 "u": [], "birge_ratio": [], "widened": []})
         sample_runs, sample_warnings = {}, {}
@@ -325,10 +332,9 @@ def identify(
         samples=samples,
         sample_runs=sample_runs,
         sample_warnings=sample_warnings,
+        shared=shared,
         notes=list(table.notes),
     )
     if rank:
-        from molid.candidates.ranking import rank_identification
-
         rank_identification(result, library=library)
     return result

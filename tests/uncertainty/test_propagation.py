@@ -7,12 +7,13 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from molid.io.profiles import load_profile, type_b_standard_uncertainty
+from molid.io.profiles import load_profile
 from molid.io.reading import read_runs
 from molid.methods.model import measurement_model
 from molid.physics.constants import GAS_CONSTANT
 from molid.pipeline.identify import model_inputs
 from molid.uncertainty.propagation import budget_percent, complex_step_jacobian, monte_carlo, propagate
+from molid.uncertainty.type_b import type_b_standard_uncertainty
 
 unc = pytest.importorskip("uncertainties")
 umath = pytest.importorskip("uncertainties.umath")
