@@ -23,7 +23,8 @@ from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
 
-from molid.io.units import COLUMN_KINDS, MEASURED_INPUTS, UnitProblem, resolve_unit
+from molid.io.units import UnitProblem, resolve_unit
+from molid.methods.inputs import COLUMN_KINDS, MEASURED_INPUTS
 from molid.uncertainty.type_b import UncertaintyRule, type_b_standard_uncertainty
 
 if sys.version_info >= (3, 11):

@@ -22,13 +22,10 @@ import numpy as np
 import pandas as pd
 
 from molid.io.profiles import InstrumentProfile, load_profile
-from molid.io.units import (
-    COLUMN_KINDS,
-    MEASURED_INPUTS,
-    ColumnUnit,
-    UnitProblem,
-    resolve_unit,
-)
+from molid.io.units import ColumnUnit, UnitProblem, resolve_unit
+from molid.methods.inputs import COLUMN_KINDS, MEASURED_INPUTS
+from molid.methods.registry import METHODS as REGISTERED_METHODS
+from molid.methods.registry import REQUIRED_EVERYWHERE
 
 __all__ = [
     "METHODS",
@@ -42,14 +39,11 @@ __all__ = [
     "read_runs",
 ]
 
-#: Measurement methods and the one-line meaning of their tare reading.
-METHODS = {
-    "evacuated-bulb": "tare is the evacuated bulb",
-    "air-tare-bulb": "tare is the bulb full of ambient air",
-    "syringe": "tare is the empty syringe, plunger home",
-}
+#: Measurement methods (from the registry) and the one-line meaning of their tare reading.
+METHODS = {name: method.summary for name, method in REGISTERED_METHODS.items()}
 
-REQUIRED_COLUMNS = ("run", "method", "mass_tare", "mass_filled", "volume", "temperature", "pressure")
+#: Columns every file needs: the run id, the method and what every method requires.
+REQUIRED_COLUMNS = ("run", "method") + REQUIRED_EVERYWHERE
 MEASURED_COLUMNS = tuple(COLUMN_KINDS)
 TEXT_COLUMNS = ("run", "sample", "method", "wet", "expected")
 #: Inputs that may have a u_<name> column; u_mass applies to both readings.

@@ -17,8 +17,6 @@ from dataclasses import dataclass
 import numpy as np
 
 __all__ = [
-    "COLUMN_KINDS",
-    "MEASURED_INPUTS",
     "DEFAULT_UNITS",
     "SI_UNITS",
     "ACCEPTED_UNITS",
@@ -28,33 +26,6 @@ __all__ = [
     "resolve_unit",
     "to_si",
 ]
-
-#: Physical kind of each measured column.
-COLUMN_KINDS = {
-    "mass_tare": "mass",
-    "mass_filled": "mass",
-    "volume": "volume",
-    "temperature": "temperature",
-    "pressure": "pressure",
-    "humidity": "fraction",
-    "air_temperature": "temperature",
-    "air_pressure": "pressure",
-    "co2": "fraction",
-    "reported_molar_mass": "molar_mass",
-}
-
-#: The measured inputs of a run, in budget order: each may have a u_<name> column.
-MEASURED_INPUTS = (
-    "mass_tare",
-    "mass_filled",
-    "volume",
-    "temperature",
-    "pressure",
-    "humidity",
-    "air_temperature",
-    "air_pressure",
-    "co2",
-)
 
 #: Unit assumed when a header gives none.
 DEFAULT_UNITS = {

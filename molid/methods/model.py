@@ -1,25 +1,11 @@
-"""Measurement models: balance readings, volume, temperature and pressure to molar mass.
+"""The measurement model shared by all methods: readings and conditions to molar mass.
 
-Each method turns the two balance readings into the mass of gas in the vessel,
-accounting for the air the vessel displaces; the ideal gas law then gives the
-molar mass. The model functions take arrays of equal shape (SI units) and use
-only arithmetic and analytic numpy functions, so that :mod:`molid.uncertainty.propagation`
-can differentiate them by complex step.
-
-Balance readings and buoyancy
------------------------------
-A balance adjusted with steel weights of conventional mass indicates, for an
-added force g·Δm on its pan, ``Δm / (1 − ρ_a/ρ_c)`` with ρ_c = 8000 kg/m³
-(OIML D 28). The gas in a sealed vessel adds mass without adding volume, so the
-true change is the indicated change times ``(1 − ρ_a/ρ_c)``, about 1.5 × 10⁻⁴
-relative. This correction is applied.
-
-- ``evacuated-bulb``: tare = bulb evacuated; the bulb's outer volume displaces
-  the same air at both weighings, so ``m = ΔI·(1 − ρ_a/ρ_c)``.
-- ``air-tare-bulb``: tare = bulb full of ambient air of density ρ_a, so
-  ``m = ΔI·(1 − ρ_a/ρ_c) + ρ_a·V``.
-- ``syringe``: drawing the plunger out by V adds V to the displaced volume, so
-  ``m = ΔI·(1 − ρ_a/ρ_c) + ρ_a·V``; ΔI is negative for gases lighter than air.
+Each run's method (see :mod:`molid.methods.registry`) turns its two balance
+readings into the mass of gas in the vessel; the moist-air density comes from
+CIPM-2007; a wet gas loses its water vapour's mass and partial pressure; the
+ideal gas law then gives the molar mass. The model functions take arrays of
+equal shape (SI units) and use only arithmetic and analytic numpy functions, so
+that :mod:`molid.uncertainty.propagation` can differentiate them by complex step.
 
 Wet gas
 -------
@@ -32,9 +18,10 @@ from __future__ import annotations
 
 import numpy as np
 
-from molid.io.units import MEASURED_INPUTS
+from molid.methods.inputs import INPUT_LABELS, MODEL_INPUTS
+from molid.methods.registry import METHOD_CODES, method_codes, select_by_method
 from molid.physics.air import moist_air_density
-from molid.physics.constants import CONVENTIONAL_MASS_DENSITY, GAS_CONSTANT
+from molid.physics.constants import GAS_CONSTANT
 from molid.physics.water import MOLAR_MASS_WATER, saturation_pressure_water
 
 __all__ = [
@@ -46,38 +33,6 @@ __all__ = [
     "ideal_gas_molar_mass",
     "measurement_model",
 ]
-
-#: Integer code of each method, used inside the vectorised model.
-METHOD_CODES = {"evacuated-bulb": 0, "air-tare-bulb": 1, "syringe": 2}
-
-#: The model's uncertain inputs, in budget order. The last two are relative
-#: corrections with value 0: the CIPM-2007 formula's own uncertainty and, for
-#: wet gas, the water partial pressure's.
-MODEL_INPUTS = MEASURED_INPUTS + ("air_density_formula", "water_vapour")
-
-#: Words for each input, for people reading a report.
-INPUT_LABELS = {
-    "mass_tare": "tare reading",
-    "mass_filled": "filled reading",
-    "volume": "volume",
-    "temperature": "gas temperature",
-    "pressure": "gas pressure",
-    "humidity": "air humidity",
-    "air_temperature": "balance-room temperature",
-    "air_pressure": "balance-room pressure",
-    "co2": "air CO2 fraction",
-    "air_density_formula": "air-density formula (CIPM-2007)",
-    "water_vapour": "water vapour in the wet gas",
-}
-
-
-def method_codes(methods) -> np.ndarray:
-    """Integer codes for method names (-1 where unknown)."""
-    import pandas as pd
-
-    codes = pd.Series(np.asarray(methods, dtype=object), dtype=object).map(METHOD_CODES)
-    return codes.fillna(-1).to_numpy(dtype=int)
-
 
 def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
     r"""Mass of gas in the vessel from two balance readings [kg].
@@ -91,7 +46,7 @@ def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
     air_density : array_like
         Density of the ambient air at the balance [kg/m³].
     method_code : array_like of int
-        0 evacuated bulb, 1 bulb tared full of air, 2 syringe.
+        Each run's code in :data:`molid.methods.registry.METHOD_CODES`.
 
     Returns
     -------
@@ -100,9 +55,7 @@ def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
 
     Notes
     -----
-    .. math:: m = (I_1 - I_0)\left(1 - \frac{\rho_a}{\rho_c}\right) + \beta\,\rho_a V
-
-    with β = 0 for an evacuated bulb and 1 otherwise, and ρ_c = 8000 kg/m³.
+    Each method's own ``gas_mass`` (see the modules of :mod:`molid.methods`).
 
     References
     ----------
@@ -118,10 +71,8 @@ def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
     >>> round(float(gas_mass(0.0, 0.3e-3, 1e-3, 1.2, 1)) * 1e3, 6)
     1.499955
     """
-    method_code = np.asarray(method_code)
-    difference = (mass_filled - mass_tare) * (1.0 - air_density / CONVENTIONAL_MASS_DENSITY)
-    displaced = np.where(method_code == 0, 0.0, 1.0) * air_density * volume
-    return difference + displaced
+    return select_by_method(
+        method_code, lambda method: method.gas_mass(mass_tare, mass_filled, volume, air_density))
 
 
 def ideal_gas_molar_mass(mass, temperature, pressure, volume):

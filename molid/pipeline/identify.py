@@ -15,8 +15,9 @@ import pandas as pd
 from molid.candidates.ranking import rank_identification
 from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.reading import RunTable, read_runs
-from molid.io.units import MEASURED_INPUTS
-from molid.methods.model import INPUT_LABELS, measurement_model, method_codes
+from molid.methods.inputs import INPUT_LABELS, MEASURED_INPUTS
+from molid.methods.model import measurement_model
+from molid.methods.registry import method_codes
 from molid.uncertainty.propagation import COVERAGE_FACTOR, budget_percent, propagate
 from molid.uncertainty.replicates import combine_replicates, shared_inputs
 

@@ -48,7 +48,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from molid.io.units import registry, resolve_unit
+from molid.methods.mistakes import DESCRIPTIONS, MISTAKE_CODES, UNEXPLAINED
 from molid.methods.model import gas_mass, ideal_gas_molar_mass, measurement_model
+from molid.methods.registry import mistake_applies, select_by_method
 from molid.physics.constants import GAS_CONSTANT, ZERO_CELSIUS
 from molid.uncertainty.propagation import COVERAGE_FACTOR, propagate
 
@@ -62,29 +64,6 @@ __all__ = [
     "Diagnosis",
     "diagnose",
 ]
-
-MISTAKE_CODES = (
-    "celsius-as-kelvin",
-    "volume-unit",
-    "pressure-unit",
-    "no-buoyancy",
-    "masses-swapped",
-    "gas-constant-units",
-)
-UNEXPLAINED = "unexplained"
-
-#: Plain words for a student sheet, one per code.
-DESCRIPTIONS = {
-    "celsius-as-kelvin": "the temperature is used in °C instead of K",
-    "volume-unit": "the volume is used in the wrong unit (mL taken as L, or L as mL)",
-    "pressure-unit": "the pressure is used in the wrong unit (mmHg, torr, atm, kPa and bar "
-                     "mixed up)",
-    "no-buoyancy": "the mass of the air the bulb or syringe displaces is left out",
-    "masses-swapped": "the tare and filled readings are exchanged",
-    "gas-constant-units": "R is taken in units that do not match the pressure and volume",
-    UNEXPLAINED: "no single classic mistake explains the difference between your result and "
-                 "your readings; check the arithmetic step by step",
-}
 
 _PRESSURE_UNITS = {"mmHg (torr)": "mmHg", "atm": "atm", "kPa": "kPa", "bar": "bar"}
 _MASS_AS_MEASURED, _MASS_NO_BUOYANCY, _MASS_SWAPPED = 0, 1, 2
@@ -251,8 +230,10 @@ def mistake_model(
     )
     air_density = correct["air_density"] + student_air_density
     as_measured = gas_mass(mass_tare, mass_filled, volume, air_density, method_code)
-    # an evacuated bulb's formula has no displaced-air term: that is the mistake
-    no_buoyancy = gas_mass(mass_tare, mass_filled, volume, air_density, np.zeros_like(method_code))
+    # a method without a displaced-air term cannot make this mistake; its rows keep the correct mass
+    no_buoyancy = select_by_method(method_code, lambda method: (
+        method.gas_mass_without_displaced_air or method.gas_mass)(
+        mass_tare, mass_filled, volume, air_density))
     swapped = gas_mass(mass_filled, mass_tare, volume, air_density, method_code)
     total = np.where(mass_mode == _MASS_SWAPPED, swapped,
                      np.where(mass_mode == _MASS_NO_BUOYANCY, no_buoyancy, as_measured))
@@ -342,7 +323,9 @@ def diagnose(values, uncertainties, static, reported, u_reported, *, arithmetic_
     tiled_u = {name: np.tile(np.asarray(item, dtype=float), count)
                for name, item in uncertainties.items()}
     method_code = np.asarray(static["method_code"])
-    displaces = method_code != 0
+    # the student computes an air density only where the method adds displaced air
+    displaces = select_by_method(method_code, lambda method: float(
+        method.gas_mass_without_displaced_air is not None)) != 0
     tiled_values["student_air_density"] = np.zeros(runs * count)
     tiled_u["student_air_density"] = np.tile(np.where(displaces, air_density_tolerance, 0.0),
                                              count)
@@ -378,9 +361,8 @@ def diagnose(values, uncertainties, static, reported, u_reported, *, arithmetic_
         normalised = (reported - value[0]) / (window[0] / COVERAGE_FACTOR)
     reported_here = np.isfinite(reported) & usable
     agrees = ~reported_here | fits[0]
-    applicable = np.ones((count, runs), dtype=bool)
-    no_buoyancy = np.array([v.code == "no-buoyancy" for v in variants])
-    applicable[no_buoyancy] = displaces
+    applicable = mistake_applies([v.code or "correct" for v in variants], method_code)
+    applicable[0] = True
     fits = fits & applicable & (reported_here & ~agrees)[None, :]
     # closeness of each fitting variant, to name the best one per code
     closeness = np.where(fits, deviation / np.where(window > 0, window, np.inf), np.inf)

@@ -1,0 +1,109 @@
+r"""Bulb tared full of air: weighed full of ambient air, then filled with the gas.
+
+The tare includes the air inside the bulb, ρ_a·V, which the gas replaces; the
+outer volume's buoyancy cancels:
+
+.. math:: m = (I_1 - I_0)\,(1 - \rho_a/\rho_c) + \rho_a V
+
+References
+----------
+OIML D 28:2004, Conventional value of the result of weighing in air.
+R. S. Davis, "Note on the choice of a sensitivity weight in precision weighing",
+J. Res. NBS 92 (1987) 239 (buoyancy of objects of no added volume).
+"""
+
+from __future__ import annotations
+
+from molid.methods.base import DEFAULT_GLASS_MASS, Method, balance_indication, conventional_mass_factor
+
+__all__ = ["METHOD", "gas_mass", "gas_mass_without_displaced_air", "simulate_readings"]
+
+
+def gas_mass_without_displaced_air(mass_tare, mass_filled, volume, air_density):
+    """Return the change of indication alone, as a student who forgets the air in the bulb [kg].
+
+    Parameters
+    ----------
+    mass_tare, mass_filled : array_like
+        Indications [kg].
+    volume : array_like
+        Internal volume [m³] (unused).
+    air_density : array_like
+        Air density at the balance [kg/m³].
+
+    Returns
+    -------
+    numpy.ndarray
+        Mass [kg].
+    """
+    return (mass_filled - mass_tare) * conventional_mass_factor(air_density) + 0.0 * volume
+
+
+def gas_mass(mass_tare, mass_filled, volume, air_density):
+    """Mass of gas in a bulb tared full of ambient air [kg].
+
+    Parameters
+    ----------
+    mass_tare, mass_filled : array_like
+        Indications of the bulb full of air and full of gas [kg].
+    volume : array_like
+        Internal volume [m³].
+    air_density : array_like
+        Air density at the balance [kg/m³].
+
+    Returns
+    -------
+    numpy.ndarray
+        Mass of gas [kg].
+
+    Examples
+    --------
+    A 1 L bulb in air of 1.2 kg/m³ whose reading rises by 0.3 g holds about 1.5 g:
+
+    >>> round(float(gas_mass(0.0, 0.3e-3, 1e-3, 1.2)) * 1e3, 6)
+    1.499955
+    """
+    return gas_mass_without_displaced_air(mass_tare, mass_filled, volume, air_density) + (
+        air_density * volume)
+
+
+def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MASS, outer_volume=None):
+    """Simulate the indications of an ideal balance for the bulb full of air and full of gas [kg].
+
+    Parameters
+    ----------
+    gas_mass : array_like
+        Mass of gas in the filled bulb [kg].
+    air_density : array_like
+        Air density at the balance (and in the bulb at tare) [kg/m³].
+    volume : array_like
+        Internal volume [m³].
+    glass_mass : float
+        Mass of the glass [kg].
+    outer_volume : array_like, optional
+        Volume the closed bulb displaces [m³]; 1.08 V by default.
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        Tare and filled indications [kg].
+    """
+    outer_volume = 1.08 * volume if outer_volume is None else outer_volume
+    displaced_air = air_density * outer_volume
+    tare = balance_indication(glass_mass + air_density * volume - displaced_air, air_density)
+    filled = balance_indication(glass_mass + gas_mass - displaced_air, air_density)
+    return tare, filled
+
+
+METHOD = Method(
+    name="air-tare-bulb",
+    summary="tare is the bulb full of ambient air",
+    required_inputs=("mass_tare", "mass_filled", "volume", "temperature", "pressure"),
+    optional_inputs=("humidity", "air_temperature", "air_pressure", "co2"),
+    gas_mass=gas_mass,
+    gas_mass_without_displaced_air=gas_mass_without_displaced_air,
+    candidate_corrections=("compressibility",),
+    mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "no-buoyancy", "masses-swapped",
+              "gas-constant-units"),
+    simulate_readings=simulate_readings,
+)

@@ -1,0 +1,168 @@
+r"""What every measurement method declares, and the balance algebra the methods share.
+
+A balance adjusted with steel weights of conventional mass indicates, for an
+added force g·Δm on its pan, ``Δm / (1 − ρ_a/ρ_c)`` with ρ_c = 8000 kg/m³
+(OIML D 28). Gas sealed in a vessel adds mass without adding volume, so the true
+change of mass is the indicated change times ``(1 − ρ_a/ρ_c)``, about
+1.5 × 10⁻⁴ relative. Every method applies this factor.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass, fields
+
+from molid.methods.inputs import MEASURED_INPUTS
+from molid.methods.mistakes import MISTAKE_CODES
+from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
+
+__all__ = [
+    "CANDIDATE_CORRECTIONS",
+    "DEFAULT_GLASS_MASS",
+    "Method",
+    "conventional_mass_factor",
+    "balance_indication",
+    "missing_parts",
+]
+
+#: Per-candidate corrections the candidate evaluation knows how to apply.
+CANDIDATE_CORRECTIONS = ("compressibility",)
+
+#: Mass of the glass of a simulated vessel [kg] (any value: it cancels).
+DEFAULT_GLASS_MASS = 0.15234
+
+
+def conventional_mass_factor(air_density):
+    r"""Factor turning a change of balance indication into a change of true mass.
+
+    Parameters
+    ----------
+    air_density : array_like
+        Density of the air at the balance [kg/m³].
+
+    Returns
+    -------
+    numpy.ndarray or float
+        :math:`1 - \rho_a/\rho_c` [1], with ρ_c = 8000 kg/m³.
+
+    References
+    ----------
+    OIML D 28:2004, Conventional value of the result of weighing in air, 4.2.
+
+    Examples
+    --------
+    In air of the conventional density 1.2 kg/m³ (OIML D 28):
+
+    >>> round(conventional_mass_factor(1.2), 6)
+    0.99985
+    """
+    return 1.0 - air_density / CONVENTIONAL_MASS_DENSITY
+
+
+def balance_indication(load, air_density):
+    r"""Return what a balance adjusted with conventional-mass weights shows for a load [kg].
+
+    Parameters
+    ----------
+    load : array_like
+        True mass on the pan less the mass of the air it displaces [kg].
+    air_density : array_like
+        Density of the air at the balance [kg/m³].
+
+    Returns
+    -------
+    numpy.ndarray or float
+        The indication [kg]: the mass of 8000 kg/m³ weights that balance the load.
+
+    Notes
+    -----
+    .. math:: I = \frac{m - \rho_a V_{ext}}{1 - \rho_a/\rho_c}
+
+    References
+    ----------
+    OIML D 28:2004, Conventional value of the result of weighing in air, 4.2.
+
+    Examples
+    --------
+    A 100 g steel weight of density 8000 kg/m³ reads 100 g in any air:
+
+    >>> round(balance_indication(0.1 - 1.2 * 0.1 / 8000, 1.2) * 1e3, 9)
+    100.0
+    """
+    return load / conventional_mass_factor(air_density)
+
+
+@dataclass(frozen=True)
+class Method:
+    """One measurement method: everything the reader, model, diagnosis and simulator need.
+
+    Attributes
+    ----------
+    name : str
+        The word in a run sheet's ``method`` column.
+    summary : str
+        One line: what the tare reading is.
+    required_inputs, optional_inputs : tuple of str
+        Measured inputs (names of :data:`molid.methods.inputs.MEASURED_INPUTS`)
+        the method needs, and those it uses when given.
+    gas_mass : callable
+        ``gas_mass(mass_tare, mass_filled, volume, air_density)`` → mass of gas
+        in the vessel [kg]; complex-step safe in every argument.
+    gas_mass_without_displaced_air : callable or None
+        The same with the displaced-air term left out (a student's mistake);
+        None when the method has no such term.
+    candidate_corrections : tuple of str
+        Corrections each candidate needs (names of :data:`CANDIDATE_CORRECTIONS`).
+    mistakes : tuple of str
+        Codes of :data:`molid.methods.mistakes.MISTAKE_CODES` a student can make
+        with this method; the diagnosis tries exactly these.
+    simulate_readings : callable
+        ``simulate_readings(gas_mass, air_density, volume, glass_mass, outer_volume)``
+        → (tare, filled) balance indications [kg] of an ideal balance.
+    """
+
+    name: str
+    summary: str
+    required_inputs: tuple
+    optional_inputs: tuple
+    gas_mass: Callable
+    gas_mass_without_displaced_air: Callable | None
+    candidate_corrections: tuple
+    mistakes: tuple
+    simulate_readings: Callable
+
+
+def missing_parts(method: Method) -> list[str]:
+    """List what a method lacks or declares wrongly; empty when it is complete.
+
+    Parameters
+    ----------
+    method : Method
+        The method to check.
+
+    Returns
+    -------
+    list of str
+        One line per problem.
+    """
+    problems = []
+    for field in fields(Method):
+        value = getattr(method, field.name, None)
+        if value is None and field.name != "gas_mass_without_displaced_air":
+            problems.append(f"{field.name} is missing")
+    if not isinstance(method.name, str) or not method.name:
+        problems.append("name is empty")
+    for name in ("gas_mass", "simulate_readings"):
+        if not callable(getattr(method, name, None)):
+            problems.append(f"{name} is not callable")
+    unknown = set(method.required_inputs or ()) | set(method.optional_inputs or ())
+    unknown -= set(MEASURED_INPUTS)
+    if unknown:
+        problems.append(f"inputs not in the vocabulary: {sorted(unknown)}")
+    if not set(method.candidate_corrections or ()) <= set(CANDIDATE_CORRECTIONS):
+        problems.append(f"unknown candidate corrections: {method.candidate_corrections}")
+    if not method.mistakes or not set(method.mistakes) <= set(MISTAKE_CODES):
+        problems.append(f"mistakes not in the vocabulary: {method.mistakes}")
+    if ("no-buoyancy" in (method.mistakes or ())) != (method.gas_mass_without_displaced_air is not None):
+        problems.append("'no-buoyancy' needs gas_mass_without_displaced_air, and only it")
+    return problems
