@@ -178,7 +178,7 @@ def _identify_streaming(args, output, library) -> int:
 def _library(args) -> int:
     import json
 
-    from molid.candidates.library import search_library
+    from molid.candidates.search import search_library
 
     if args.mass and not (0 <= args.mass[0] <= args.mass[1]):
         print(f"molid: error: --mass needs LOW <= HIGH, both >= 0 (got {args.mass[0]:g} "

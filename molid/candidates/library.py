@@ -1,8 +1,9 @@
-"""The candidate library: loading, validating, merging and searching it.
+"""The candidate library: loading, validating and merging it.
 
 The library is a data file, ``molid/data/candidates.csv``, one row per substance
 met as a gas or vapour, with a column naming the source of each value.  It is
-read once and cached; :func:`load_library` hands out copies.
+read once and cached; :func:`load_library` hands out copies.  Looking rows up
+by name, formula or molar mass is in :mod:`molid.candidates.search`.
 
 A user file of the same format can be merged with the default library or replace
 it, and single formulas can be added from the command line (``--candidate``).
@@ -28,7 +29,6 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-import periodictable
 from periodictable.formulas import from_subscript
 
 from molid.physics.formulas import hill_formula, molar_mass
@@ -40,9 +40,8 @@ __all__ = [
     "LIBRARY_COLUMNS",
     "POLAR_CLASSES",
     "LibraryError",
+    "copy_library",
     "load_library",
-    "find_candidate",
-    "search_library",
 ]
 
 #: The default library shipped with molid.
@@ -151,12 +150,6 @@ def _split_list(text):
     return [item.strip() for item in text.split(";") if item.strip()]
 
 
-def _name_key(text):
-    """Key for comparing names: case, spaces, hyphens and dashes do not count."""
-    text = str(text).casefold()
-    return re.sub(r"[\s\-\u2010-\u2015\u2212_]+", "", text)
-
-
 def _read_csv(path):
     """Read a library file as text cells, one record per spreadsheet row.
 
@@ -194,71 +187,94 @@ def _read_csv(path):
     return pd.DataFrame(body, columns=header, dtype=object)
 
 
-def _parse_table(table, source, origin):
-    """Validate a text table of library rows and convert it to SI; raise LibraryError."""
-    problems = []
+class _Problems:
+    """The problems found in one library file, collected so that one error lists them all."""
 
-    def problem(row, column, what, accepted):
-        problems.append(f"row {row}, column '{column}': {what}; accepted: {accepted}")
+    def __init__(self):
+        self.lines = []
 
-    columns = [str(column).strip() for column in table.columns]
-    table = table.copy()
-    table.columns = columns
+    def add(self, row, column, what, accepted):
+        """Record a problem at a spreadsheet row (the header is row 1) and column."""
+        self.lines.append(f"row {row}, column '{column}': {what}; accepted: {accepted}")
+
+    def raise_if_any(self, source):
+        """Raise a LibraryError listing every problem recorded so far, if there is one."""
+        if self.lines:
+            raise LibraryError(source, self.lines)
+
+
+def _check_header(columns, problems):
+    """Report duplicate, unknown and missing columns of the header row."""
     for column in sorted({column for column in columns if columns.count(column) > 1}):
-        problem(1, column, "column appears more than once", "each column once")
+        problems.add(1, column, "column appears more than once", "each column once")
     unknown = [column for column in columns if column not in FILE_COLUMNS]
     for column in unknown:
         hint = ""
         if ";" in column and len(columns) == 1:
             hint = " (the file seems to use ';' between fields; save it comma-separated)"
-        problem(1, column, f"unknown column{hint}", "the columns " + ", ".join(FILE_COLUMNS))
+        problems.add(1, column, f"unknown column{hint}", "the columns " + ", ".join(FILE_COLUMNS))
     for column in _REQUIRED_COLUMNS:
         if column not in columns:
-            problem(1, column, "column missing", "a header row naming at least name and formula")
-    if problems:
-        raise LibraryError(source, problems)
+            problems.add(1, column, "column missing", "a header row naming at least name and formula")
+
+
+def _file_rows(table, columns):
+    """Give every file column as stripped text, indexed by spreadsheet row, empty rows left out."""
+    table = table.copy()
+    table.columns = columns
     for column in FILE_COLUMNS:
         if column not in table.columns:
             table[column] = ""
     table = table[list(FILE_COLUMNS)].apply(lambda cells: cells.str.strip())
     # Spreadsheet numbering: the header is row 1, so data row i is row i + 2.
     table.index = pd.RangeIndex(2, 2 + len(table))
-    table = table[(table != "").any(axis=1)]
-    rows = table.index.to_numpy()
+    return table[(table != "").any(axis=1)]
 
+
+def _outside_rule(rule, value):
+    """Tell which finite values break a number column's rule, and the words for it."""
+    finite = np.isfinite(value)
+    if rule == "positive":
+        return finite & (value <= 0), "must be above zero"
+    if rule == "non-negative":
+        return finite & (value < 0), "must not be negative"
+    low, high = ACENTRIC_RANGE
+    return finite & ((value < low) | (value > high)), f"outside {low} to {high}"
+
+
+def _parse_numbers(table, problems):
+    """Read the number columns as float arrays, NaN where empty or wrong; report the wrong cells."""
+    rows = table.index.to_numpy()
     numbers = {}
     for column, (rule, accepted) in _NUMBER_COLUMNS.items():
         text = table[column]
         value = np.array(pd.to_numeric(text, errors="coerce"), dtype=float)
         given = (text != "").to_numpy()
         not_number = given & ~np.isfinite(value)
-        if rule == "positive":
-            out_of_range = given & np.isfinite(value) & (value <= 0)
-            what = "must be above zero"
-        elif rule == "non-negative":
-            out_of_range = given & np.isfinite(value) & (value < 0)
-            what = "must not be negative"
-        else:
-            low, high = ACENTRIC_RANGE
-            out_of_range = given & np.isfinite(value) & ((value < low) | (value > high))
-            what = f"outside {low} to {high}"
+        outside, what = _outside_rule(rule, value)
+        out_of_range = given & outside
         for row in rows[not_number]:
-            problem(row, column, f"{table.at[row, column]!r} is not a number", accepted)
+            problems.add(row, column, f"{table.at[row, column]!r} is not a number", accepted)
         for row in rows[out_of_range]:
-            problem(row, column, f"{table.at[row, column]} {what}", accepted)
+            problems.add(row, column, f"{table.at[row, column]} {what}", accepted)
         value[~given | not_number] = np.nan
         numbers[column] = value
+    return numbers
 
+
+def _check_names(table, problems):
+    """Report missing names and names given twice (case does not count)."""
+    rows = table.index.to_numpy()
     names = table["name"]
     for row in rows[(names == "").to_numpy()]:
-        problem(row, "name", "missing name", "a non-empty common name, e.g. carbon dioxide")
+        problems.add(row, "name", "missing name", "a non-empty common name, e.g. carbon dioxide")
     first_row_of = {}
     for row, name in zip(rows, names, strict=True):
         if not name:
             continue
         key = name.casefold()
         if key in first_row_of:
-            problem(
+            problems.add(
                 row,
                 "name",
                 f"duplicate name {name!r} (also row {first_row_of[key]})",
@@ -267,15 +283,18 @@ def _parse_table(table, source, origin):
         else:
             first_row_of[key] = row
 
+
+def _check_cas_numbers(table, problems):
+    """Report CAS registry numbers that are malformed, fail their check digit or repeat."""
     first_row_of_cas = {}
-    for row, cas in zip(rows, table["cas"], strict=True):
+    for row, cas in zip(table.index.to_numpy(), table["cas"], strict=True):
         if not cas:
             continue
         what = _cas_problem(cas)
         if what:
-            problem(row, "cas", f"{cas!r}: {what}", "a CAS registry number such as 124-38-9")
+            problems.add(row, "cas", f"{cas!r}: {what}", "a CAS registry number such as 124-38-9")
         elif cas in first_row_of_cas:
-            problem(
+            problems.add(
                 row,
                 "cas",
                 f"duplicate CAS number {cas} (also row {first_row_of_cas[cas]})",
@@ -284,14 +303,18 @@ def _parse_table(table, source, origin):
         else:
             first_row_of_cas[cas] = row
 
+
+def _resolve_formulas(table, numbers, problems):
+    """Find the Hill formula and molar mass [kg/mol] of each row; only a mixture types its molar mass."""
     hill = []
     mass = numbers["molar_mass_g_per_mol"] * 1e-3
     given_mass = np.isfinite(numbers["molar_mass_g_per_mol"])
+    rows = table.index.to_numpy()
     for position, (row, formula) in enumerate(zip(rows, table["formula"], strict=True)):
         if not formula:
             hill.append("")
             if not given_mass[position]:
-                problem(
+                problems.add(
                     row,
                     "formula",
                     "missing formula",
@@ -303,7 +326,7 @@ def _parse_table(table, source, origin):
             formula_mass = molar_mass(formula)
         except ValueError as error:
             hill.append("")
-            problem(
+            problems.add(
                 row,
                 "formula",
                 str(error).split("; accepted: ")[0],
@@ -311,7 +334,7 @@ def _parse_table(table, source, origin):
             )
             continue
         if given_mass[position]:
-            problem(
+            problems.add(
                 row,
                 "molar_mass_g_per_mol",
                 "a molar mass is given although the formula fixes it",
@@ -319,29 +342,37 @@ def _parse_table(table, source, origin):
                 "the formula by periodictable); a value only for mixtures",
             )
         mass[position] = formula_mass
+    return hill, mass
 
+
+def _check_critical_data(table, numbers, problems):
+    """Tell which rows have all three critical values; report rows that give only some."""
     critical_given = np.column_stack([np.isfinite(numbers[c]) for c in _CRITICAL_COLUMNS])
     # A cell that failed to parse was reported above; do not call the set incomplete for it.
     critical_typed = np.column_stack([(table[c] != "").to_numpy() for c in _CRITICAL_COLUMNS])
     has_critical = critical_given.all(axis=1)
     partial = critical_typed.any(axis=1) & ~critical_typed.all(axis=1)
-    for row in rows[partial]:
-        problem(
+    for row in table.index.to_numpy()[partial]:
+        problems.add(
             row,
             "critical_temperature_K",
             "incomplete critical data",
             "critical_temperature_K, critical_pressure_MPa and acentric_factor "
             "all given, or all three empty",
         )
+    return has_critical
 
+
+def _resolve_polar_classes(table, numbers, has_critical, problems):
+    """Find the polar class and dipole moment [D] of each row; an empty class means nonpolar."""
     polar = np.array(table["polar_class"], dtype=object)
     dipole = numbers["dipole_moment_D"]
     dipole_given = (table["dipole_moment_D"] != "").to_numpy()
-    for position, row in enumerate(rows):
+    for position, row in enumerate(table.index.to_numpy()):
         label = polar[position]
         if not label:
             if dipole_given[position] and np.isfinite(dipole[position]) and dipole[position] > 0:
-                problem(
+                problems.add(
                     row,
                     "polar_class",
                     "missing for a substance with a dipole moment",
@@ -349,7 +380,7 @@ def _parse_table(table, source, origin):
                 )
             polar[position] = "nonpolar"
         elif label not in POLAR_CLASSES:
-            problem(
+            problems.add(
                 row,
                 "polar_class",
                 f"unknown polar class {label!r}",
@@ -358,20 +389,20 @@ def _parse_table(table, source, origin):
         elif (
             label not in _NONPOLAR_CLASSES and has_critical[position] and not dipole_given[position]
         ):
-            problem(
+            problems.add(
                 row,
                 "dipole_moment_D",
                 f"missing for polar_class {label!r}",
                 "the gas-phase dipole moment in debye",
             )
     nonpolar = np.isin(polar, _NONPOLAR_CLASSES)
-    dipole = np.where(nonpolar & ~dipole_given, 0.0, dipole)
+    return polar, np.where(nonpolar & ~dipole_given, 0.0, dipole)
 
-    if problems:
-        raise LibraryError(source, problems)
 
+def _library_frame(table, numbers, origin, *, hill, mass, has_critical, polar, dipole):
+    """Build the library table, in SI units, from validated rows (see :data:`LIBRARY_COLUMNS`)."""
     uncertainty = numbers["u_molar_mass_g_per_mol"] * 1e-3
-    frame = pd.DataFrame(
+    return pd.DataFrame(
         {
             "name": table["name"].to_numpy(dtype=object),
             "formula": table["formula"]
@@ -398,7 +429,29 @@ def _parse_table(table, source, origin):
         },
         columns=list(LIBRARY_COLUMNS),
     )
-    return frame
+
+
+def _parse_table(table, source, origin):
+    """Validate a text table of library rows and convert it to SI; raise LibraryError.
+
+    A faulty header is reported on its own, since the rows cannot be read
+    without it; otherwise every problem in the rows is collected first, so that
+    one error lists them all.
+    """
+    problems = _Problems()
+    columns = [str(column).strip() for column in table.columns]
+    _check_header(columns, problems)
+    problems.raise_if_any(source)
+    table = _file_rows(table, columns)
+    numbers = _parse_numbers(table, problems)
+    _check_names(table, problems)
+    _check_cas_numbers(table, problems)
+    hill, mass = _resolve_formulas(table, numbers, problems)
+    has_critical = _check_critical_data(table, numbers, problems)
+    polar, dipole = _resolve_polar_classes(table, numbers, has_critical, problems)
+    problems.raise_if_any(source)
+    return _library_frame(table, numbers, origin, hill=hill, mass=mass, has_critical=has_critical,
+                          polar=polar, dipole=dipole)
 
 
 def _read_library_file(path, origin):
@@ -411,8 +464,19 @@ def _cached_library_file(path, origin):
     return _read_library_file(path, origin)
 
 
-def _copy(frame):
-    """Copy a library table, the list cells included, so callers cannot alter the cache."""
+def copy_library(frame):
+    """Copy a library table, the list cells included, so that callers cannot alter the cache.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        A table from :func:`load_library`, or a selection of its rows.
+
+    Returns
+    -------
+    pandas.DataFrame
+        An independent copy with the same index labels.
+    """
     copied = frame.copy()
     for column in _LIST_COLUMNS:
         copied[column] = pd.Series(
@@ -429,6 +493,33 @@ def _merge(base, user):
         user_cas
     )
     return pd.concat([base[~replaced], user], ignore_index=True)
+
+
+def _extra_row(name, hill, mass):
+    """Make the library row of one ``--candidate`` formula: no critical data, so ranked as an ideal gas."""
+    return {
+        "name": name,
+        "formula": hill,
+        "hill": hill,
+        "cas": "",
+        "aliases": [],
+        "molar_mass": mass,
+        "u_molar_mass": 0.0,
+        "critical_temperature": math.nan,
+        "critical_pressure": math.nan,
+        "acentric_factor": math.nan,
+        "normal_boiling_point": math.nan,
+        "dipole_moment": math.nan,
+        "polar_class": "nonpolar",
+        "has_critical_data": False,
+        "ghs_hazards": [],
+        "source_critical": "",
+        "source_dipole": "",
+        "source_ghs": "",
+        "note": "Added with --candidate: no critical data, so it is ranked with the "
+        "ideal-gas molar mass; its hazards are not known to molid.",
+        "origin": "--candidate",
+    }
 
 
 def _extra_rows(library, extra_candidates):
@@ -465,31 +556,7 @@ def _extra_rows(library, extra_candidates):
             continue
         known_names[key] = hill
         known_hill.add(hill)
-        rows.append(
-            {
-                "name": name,
-                "formula": hill,
-                "hill": hill,
-                "cas": "",
-                "aliases": [],
-                "molar_mass": mass,
-                "u_molar_mass": 0.0,
-                "critical_temperature": math.nan,
-                "critical_pressure": math.nan,
-                "acentric_factor": math.nan,
-                "normal_boiling_point": math.nan,
-                "dipole_moment": math.nan,
-                "polar_class": "nonpolar",
-                "has_critical_data": False,
-                "ghs_hazards": [],
-                "source_critical": "",
-                "source_dipole": "",
-                "source_ghs": "",
-                "note": "Added with --candidate: no critical data, so it is ranked with the "
-                "ideal-gas molar mass; its hazards are not known to molid.",
-                "origin": "--candidate",
-            }
-        )
+        rows.append(_extra_row(name, hill, mass))
     if problems:
         raise LibraryError("--candidate options", problems)
     return pd.DataFrame(rows, columns=list(LIBRARY_COLUMNS))
@@ -540,6 +607,7 @@ def load_library(path=None, mode="merge", extra_candidates=()):
 
     Examples
     --------
+    >>> from molid.candidates.search import find_candidate
     >>> library = load_library()
     >>> row = library.loc[find_candidate(library, "R-134a")]
     >>> round(float(row.molar_mass) * 1000, 2), row.hill
@@ -548,195 +616,17 @@ def load_library(path=None, mode="merge", extra_candidates=()):
     if mode not in ("merge", "replace"):
         raise ValueError(f"mode must be 'merge' or 'replace', not {mode!r}")
     if path is None:
-        library = _copy(_cached_library_file(DEFAULT_LIBRARY_PATH, "default"))
+        library = copy_library(_cached_library_file(DEFAULT_LIBRARY_PATH, "default"))
     else:
         user = _read_library_file(path, Path(path).name)
         if mode == "replace":
             library = user
         else:
             library = _merge(_cached_library_file(DEFAULT_LIBRARY_PATH, "default"), user)
-            library = _copy(library)
+            library = copy_library(library)
     extra = list(extra_candidates)
     if extra:
         added = _extra_rows(library, extra)
         if len(added):
             library = pd.concat([library, added], ignore_index=True)
     return library.reset_index(drop=True)
-
-
-def _unique(index):
-    return int(index[0]) if len(index) == 1 else None
-
-
-# Element symbols periodictable knows, including D and T for hydrogen isotopes.
-_SYMBOLS = frozenset(element.symbol for element in periodictable.elements if element.number > 0) | {
-    "D",
-    "T",
-}
-
-
-def _recased_formulas(text, limit=64):
-    """Every way of reading a wrongly-cased formula as element symbols (``nh3`` -> ``NH3``)."""
-    pieces = re.split(r"([A-Za-z]+)", text)
-    readings = [""]
-    for piece in pieces:
-        if not piece.isalpha():
-            readings = [reading + piece for reading in readings]
-            continue
-        splits = _symbol_splits(piece.casefold())
-        readings = [reading + split for reading in readings for split in splits][:limit]
-    return readings
-
-
-@functools.lru_cache(maxsize=256)
-def _symbol_splits(letters):
-    """Split a lower-case letter run into element symbols in every possible way."""
-    if not letters:
-        return ("",)
-    splits = []
-    for size in (1, 2):
-        symbol = letters[:size].capitalize()
-        if len(letters) >= size and symbol in _SYMBOLS:
-            splits.extend(symbol + rest for rest in _symbol_splits(letters[size:]))
-    return tuple(splits)
-
-
-def _hill_or_none(text):
-    try:
-        return hill_formula(text)
-    except ValueError:
-        return None
-
-
-def find_candidate(library, label):
-    """Find the library row a user's label names.
-
-    Parameters
-    ----------
-    library : pandas.DataFrame
-        A table from :func:`load_library`.
-    label : str
-        A name (``carbon dioxide``), alias (``R-744``), CAS number
-        (``124-38-9``) or formula (``CO2``, ``C₃H₈``).
-
-    Returns
-    -------
-    int or None
-        The index label of the matching row, or None when nothing matches or
-        the label is ambiguous.
-
-    Notes
-    -----
-    The label is tried, in order, as:
-
-    1. a name, then an alias: case, spaces and hyphens do not count
-       (``r134a`` finds ``R-134a``);
-    2. a CAS registry number;
-    3. a formula, exactly as typed, compared by Hill formula.  When several
-       isomers share the formula (``C4H10``: n-butane and isobutane) the
-       answer is None, because only a name can tell them apart;
-    4. only when the text is not a valid formula as typed (``co2``, ``nh3``)
-       and holds a digit: every reading of its letters as element symbols is
-       tried, and the label matches if exactly one library row has one of
-       those formulas.  So ``co2`` finds carbon dioxide, but ``Co`` (a valid
-       formula: cobalt) never becomes CO, and ``no`` is not taken for nitric
-       oxide.
-
-    Examples
-    --------
-    >>> library = load_library()
-    >>> library.loc[find_candidate(library, "124-38-9"), "name"]
-    'carbon dioxide'
-    >>> find_candidate(library, "C4H10") is None  # n-butane or isobutane?
-    True
-    """
-    text = from_subscript(str(label)).strip()
-    if not text:
-        return None
-    key = _name_key(text)
-    index = library.index
-
-    by_name = index[library["name"].map(_name_key).to_numpy() == key]
-    if len(by_name):
-        return _unique(by_name)
-    alias_keys = library["aliases"].map(lambda aliases: {_name_key(a) for a in aliases})
-    by_alias = index[alias_keys.map(lambda keys: key in keys).to_numpy(dtype=bool)]
-    if len(by_alias):
-        return _unique(by_alias)
-    by_cas = index[(library["cas"] == text).to_numpy()]
-    if len(by_cas):
-        return _unique(by_cas)
-    try:
-        hill = hill_formula(text)
-    except ValueError:
-        if not any(character.isdigit() for character in text):
-            return None
-        readings = {_hill_or_none(candidate) for candidate in _recased_formulas(text)}
-        matches = library["hill"].isin(readings - {None, ""}).to_numpy()
-        return _unique(index[matches])
-    return _unique(index[(library["hill"] == hill).to_numpy()])
-
-
-def search_library(library, text=None, molar_mass_window=None):
-    """Select library rows by a text and/or a molar-mass window.
-
-    Parameters
-    ----------
-    library : pandas.DataFrame
-        A table from :func:`load_library`.
-    text : str, optional
-        Case-insensitive substring looked for in name, aliases, formula, Hill
-        formula and CAS number.  A text that is a valid formula also selects
-        every row with the same Hill formula (``CH3CH2OH`` finds ethanol and
-        dimethyl ether).
-    molar_mass_window : tuple of float, optional
-        ``(low, high)`` molar mass window [g/mol], inclusive; g/mol because it
-        comes straight from the command line.
-
-    Returns
-    -------
-    pandas.DataFrame
-        The selected rows, in library order, with their original index labels.
-
-    Raises
-    ------
-    ValueError
-        If the window's low end is above its high end.
-
-    Examples
-    --------
-    >>> library = load_library()
-    >>> sorted(search_library(library, molar_mass_window=(44.0, 44.2))["name"])
-    ['carbon dioxide', 'ethylene oxide', 'nitrous oxide', 'propane']
-    """
-    selected = np.ones(len(library), dtype=bool)
-    if text is not None and text.strip():
-        needle = from_subscript(text).strip()
-        haystack = (
-            library["name"]
-            + "\n"
-            + library["aliases"].map("\n".join)
-            + "\n"
-            + library["formula"]
-            + "\n"
-            + library["hill"]
-            + "\n"
-            + library["cas"]
-        ).str.casefold()
-        found = np.array(haystack.str.contains(needle.casefold(), regex=False), dtype=bool)
-        try:
-            hill = hill_formula(needle)
-        except ValueError:
-            pass
-        else:
-            found |= (library["hill"] == hill).to_numpy()
-        selected &= found
-    if molar_mass_window is not None:
-        low, high = (float(value) for value in molar_mass_window)
-        if low > high:
-            raise ValueError(
-                f"molar-mass window ({low}, {high}) g/mol: the low end is above the high end"
-            )
-        grams = library["molar_mass"].to_numpy(dtype=float) * 1000.0
-        selected &= (grams >= low) & (grams <= high)
-    return _copy(library[selected])

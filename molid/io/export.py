@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from molid import __version__
-from molid.candidates.ranking import VERDICTS, verdicts
+from molid.candidates.verdicts import VERDICTS, verdicts
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = [

@@ -417,7 +417,7 @@ def written_resolution(cells, scale: float) -> np.ndarray:
 
 def _library_position(library: pd.DataFrame, texts, also=()):
     """Library position of each distinct identity text, and a message for each failure."""
-    from molid.candidates.library import find_candidate
+    from molid.candidates.search import find_candidate
     from molid.physics.formulas import hill_formula
 
     found, problems = {}, {}

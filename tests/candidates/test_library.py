@@ -17,10 +17,9 @@ from molid.candidates.library import (
     LIBRARY_COLUMNS,
     POLAR_CLASSES,
     LibraryError,
-    find_candidate,
     load_library,
-    search_library,
 )
+from molid.candidates.search import find_candidate, search_library
 from molid.physics.formulas import hill_formula, molar_mass
 
 # Substances the library must hold, by CAS registry number (CAS numbers from memory;

@@ -5,7 +5,7 @@ import pandas as pd
 import pytest
 
 from molid.candidates.library import load_library
-from molid.candidates.ranking import VERDICTS, verdicts
+from molid.candidates.verdicts import VERDICTS, verdicts
 from molid.pipeline.identify import identify
 
 simulate = pytest.importorskip("simulate")
