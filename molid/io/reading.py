@@ -13,7 +13,6 @@ first data row is row 2.
 from __future__ import annotations
 
 import io
-import re
 import sys
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -21,11 +20,20 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from molid.io.cells import (
+    blank_rows,
+    column_text,
+    read_measured,
+    read_stated_uncertainties,
+    read_wet,
+    text_columns,
+)
+from molid.io.checks import check_methods, check_ranges, check_run_ids
+from molid.io.columns import METHODS, REQUIRED_COLUMNS
+from molid.io.defaults import fill_defaults
+from molid.io.headers import measured_units, parse_header, resolve_headers, uncertainty_columns
+from molid.io.problems import InputError, RowProblems
 from molid.io.profiles import InstrumentProfile, load_profile
-from molid.io.units import ColumnUnit, UnitProblem, resolve_unit
-from molid.methods.inputs import COLUMN_KINDS, MEASURED_INPUTS
-from molid.methods.registry import METHODS as REGISTERED_METHODS
-from molid.methods.registry import REQUIRED_EVERYWHERE
 
 __all__ = [
     "METHODS",
@@ -39,22 +47,8 @@ __all__ = [
     "read_runs",
 ]
 
-#: Measurement methods (from the registry) and the one-line meaning of their tare reading.
-METHODS = {name: method.summary for name, method in REGISTERED_METHODS.items()}
-
-#: Columns every file needs: the run id, the method and what every method requires.
-REQUIRED_COLUMNS = ("run", "method") + REQUIRED_EVERYWHERE
-MEASURED_COLUMNS = tuple(COLUMN_KINDS)
-TEXT_COLUMNS = ("run", "sample", "method", "wet", "expected")
-#: Inputs that may have a u_<name> column; u_mass applies to both readings.
-UNCERTAIN_INPUTS = MEASURED_INPUTS
-_HEADER_ALIASES = {"run_id": "run", "id": "run", "rh": "humidity", "relative_humidity": "humidity"}
-_TRUE = {"yes", "y", "true", "1", "wet", "saturated"}
-_FALSE = {"no", "n", "false", "0", "dry", ""}
-
-
-class InputError(ValueError):
-    """A problem with a file as a whole: nothing in it can be analysed."""
+# Kept under its former name: molid.teaching imports it from here.
+_parse_header = parse_header
 
 
 class RunIds:
@@ -176,29 +170,6 @@ class RunTable:
                            count=len(self.errors))
 
 
-@dataclass(frozen=True)
-class _Header:
-    original: str
-    name: str
-    unit: str | None
-
-
-_HEADER_PATTERN = re.compile(r"^\s*(?P<name>[^\[\]]*?)\s*(?:\[(?P<unit>[^\]]*)\])?\s*$")
-
-
-def _parse_header(text: str) -> _Header:
-    match = _HEADER_PATTERN.match(str(text))
-    if not match:
-        raise InputError(
-            f"header '{text}': cannot read it; write a name, optionally followed by a unit "
-            "in square brackets, e.g. 'pressure [mmHg]'"
-        )
-    name = re.sub(r"[\s\-]+", "_", match["name"].strip().lower())
-    name = _HEADER_ALIASES.get(name, name)
-    unit = match["unit"].strip() if match["unit"] is not None else None
-    return _Header(original=str(text), name=name, unit=unit)
-
-
 def _decode(data: bytes, notes: list) -> str:
     try:
         return data.decode("utf-8-sig")
@@ -250,6 +221,18 @@ def read_raw(source) -> tuple[pd.DataFrame, bool, list, str]:
         raw.columns = [str(column) for column in raw.columns]
         raw = raw.astype(object).where(raw.notna(), "").astype(str)
         return raw, False, notes, "data frame"
+    data, name = _read_bytes(source)
+    if not data.strip():
+        raise InputError(f"{name}: the file is empty; expected a header row and data rows")
+    if data[:4] == b"PK\x03\x04":  # a zip archive: an .xlsx workbook
+        return _read_workbook(data, name), False, notes, name
+    text = _decode(data, notes)
+    separator = _sniff_separator(text)
+    return _read_csv(text, separator, name), separator in (";", "\t"), notes, name
+
+
+def _read_bytes(source) -> tuple[bytes, str]:
+    """Read the bytes of a path, ``"-"`` (standard input) or an open file; name it for messages."""
     name = "standard input" if str(source) == "-" else str(source)
     try:
         if str(source) == "-":
@@ -267,18 +250,22 @@ def read_raw(source) -> tuple[pd.DataFrame, bool, list, str]:
         raise InputError(f"{name}: cannot read it ({error.strerror})") from None
     if isinstance(data, str):
         data = data.encode("utf-8")
-    if not data.strip():
-        raise InputError(f"{name}: the file is empty; expected a header row and data rows")
-    if data[:4] == b"PK\x03\x04":
-        try:
-            raw = pd.read_excel(io.BytesIO(data), dtype=str, header=0)
-        except Exception as error:  # openpyxl raises many kinds for damaged files
-            raise InputError(f"{name}: cannot read it as an .xlsx workbook ({error})") from None
-        raw = raw.fillna("")
-        raw.columns = [str(column) for column in raw.columns]
-        return raw, False, notes, name
-    text = _decode(data, notes)
-    separator = _sniff_separator(text)
+    return data, name
+
+
+def _read_workbook(data: bytes, name: str) -> pd.DataFrame:
+    """Read the first sheet of an .xlsx workbook as text cells."""
+    try:
+        raw = pd.read_excel(io.BytesIO(data), dtype=str, header=0)
+    except Exception as error:  # openpyxl raises many kinds for damaged files
+        raise InputError(f"{name}: cannot read it as an .xlsx workbook ({error})") from None
+    raw = raw.fillna("")
+    raw.columns = [str(column) for column in raw.columns]
+    return raw
+
+
+def _read_csv(text: str, separator: str, name: str) -> pd.DataFrame:
+    """Read delimited text as text cells, keeping blank lines so rows keep their spreadsheet numbers."""
     try:
         raw = pd.read_csv(
             io.StringIO(text),
@@ -293,85 +280,17 @@ def read_raw(source) -> tuple[pd.DataFrame, bool, list, str]:
     except (pd.errors.ParserError, ValueError) as error:
         raise InputError(f"{name}: cannot read it as CSV ({error})") from None
     raw.columns = [str(column) for column in raw.columns]
-    return raw, separator in (";", "\t"), notes, name
-
-
-def _blank_rows(raw: pd.DataFrame) -> np.ndarray:
-    if raw.shape[1] == 0:
-        return np.ones(len(raw), dtype=bool)
-    stripped = raw.apply(lambda column: column.str.strip())
-    return (stripped == "").all(axis=1).to_numpy()
-
-
-def _numbers(column: pd.Series, decimal_comma: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Parse a text column: values, blank mask and not-a-number mask."""
-    text = column.str.strip()
-    blank = (text == "").to_numpy()
-    if decimal_comma:
-        text = text.str.replace(",", ".", regex=False)
-    values = _fast_floats(text, blank)
-    if values is None:  # some cell is not a number: parse cell by cell, coercing the bad ones
-        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
-    # "nan" parses as NaN; a user who typed it gave no number, so it counts as bad
-    not_number = ~blank & np.isnan(values)
-    return values, blank, not_number
+    return raw
 
 
 def first_uses(raw: pd.DataFrame, registry: RunIds, first_row: int) -> np.ndarray:
     """Duplicate run ids of a chunk of raw rows: the row that first used each id, 0 where new."""
-    column = next((name for name in raw.columns if _parse_header(name).name == "run"), None)
+    column = next((name for name in raw.columns if parse_header(name).name == "run"), None)
     if column is None:
         return np.zeros(len(raw), dtype=np.int64)
     ids = raw[column].astype(str).str.strip().to_numpy(dtype=object)
     ids = np.where(ids == "", None, ids)
     return registry.check(ids, np.arange(first_row, first_row + len(raw)))
-
-
-def _fast_floats(text: pd.Series, blank: np.ndarray):
-    """All cells as floats by Arrow's C++ cast, or None when any non-blank cell is not a number."""
-    try:
-        import pyarrow as pa
-        import pyarrow.compute as pc
-
-        array = pa.array(text.to_numpy(dtype=object), type=pa.string()) \
-            if not hasattr(text.array, "_pa_array") else text.array._pa_array
-        array = pc.if_else(pa.array(blank), pa.scalar(None, pa.string()), array)
-        return np.asarray(pc.cast(array, pa.float64()).to_numpy(zero_copy_only=False), dtype=float)
-    except Exception:  # ArrowInvalid for a bad cell; anything else: take the careful path
-        return None
-
-
-class _Problems:
-    """Per-row errors and warnings, filled by vectorised checks."""
-
-    def __init__(self, row_numbers: np.ndarray):
-        self.row_numbers = row_numbers
-        # One shared empty list: a row gets its own list only when it has a problem,
-        # so a clean chunk of 10,000 rows allocates no 20,000 lists.
-        empty: list = []
-        self.errors = [empty] * len(row_numbers)
-        self.warnings = [empty] * len(row_numbers)
-
-    def error(self, mask, message) -> None:
-        for index in np.flatnonzero(mask):
-            self.errors[index] = self.errors[index] + [
-                f"row {self.row_numbers[index]}, " + message(index)]
-
-    def warn(self, mask, message) -> None:
-        for index in np.flatnonzero(mask):
-            self.warnings[index] = self.warnings[index] + [message(index)]
-
-
-def _temperature_hint(unit: ColumnUnit, written: float) -> str:
-    for candidate in ("degC", "K", "degF"):
-        if candidate == unit.text:
-            continue
-        converted = written * resolve_unit("temperature", candidate).scale + resolve_unit(
-            "temperature", candidate
-        ).offset
-        if 273.0 <= converted <= 400.0:
-            return f"; it would be a lab temperature in {candidate}"
-    return ""
 
 
 def parse_runs(
@@ -423,350 +342,34 @@ def parse_runs(
     """
     profile = profile or load_profile()
     notes = list(notes or [])
-    headers = [_parse_header(column) for column in raw.columns]
-    by_name: dict[str, _Header] = {}
-    for header in headers:
-        if header.name in by_name:
-            raise InputError(
-                f"{source}: columns '{by_name[header.name].original}' and '{header.original}' "
-                f"both mean '{header.name}'; keep one"
-            )
-        by_name[header.name] = header
-    missing = [name for name in REQUIRED_COLUMNS if name not in by_name]
-    if missing:
-        found = ", ".join(f"'{h.original}'" for h in headers) or "none"
-        raise InputError(
-            f"{source}: required column(s) missing: {', '.join(missing)}. "
-            f"Required: {', '.join(REQUIRED_COLUMNS)}; found: {found}"
-        )
-
-    blank = _blank_rows(raw)
-    row_numbers_all = np.arange(first_row, first_row + len(raw))
+    by_name = resolve_headers(raw.columns, source)
+    blank = blank_rows(raw)
+    row_numbers = np.arange(first_row, first_row + len(raw))[~blank]
     raw = raw.loc[~blank].reset_index(drop=True)
-    row_numbers = row_numbers_all[~blank]
     if len(raw) == 0 and require_rows:
         raise InputError(f"{source}: the file has a header but no data rows")
-    problems = _Problems(row_numbers)
-    n = len(raw)
-
-    def cells(name: str) -> pd.Series:
-        return raw[by_name[name].original].astype(str)
-
-    # Text columns.
-    text = pd.DataFrame(index=range(n))
-    for name in ("run", "sample", "method", "expected"):
-        if name in by_name:
-            values = cells(name).str.strip().to_numpy(dtype=object)
-            text[name] = pd.Series(np.where(values == "", None, values), dtype=object)
-        else:
-            text[name] = pd.Series([None] * n, dtype=object)
-    run = text["run"]
-    problems.error(run.isna().to_numpy(),
-                   lambda i: "column 'run': the run id is empty; give each run a unique id")
-    run_values = run.to_numpy(dtype=object)
+    problems = RowProblems(row_numbers)
+    text = text_columns(raw, by_name)
     if first_use_of_rows is not None:  # duplicates already found by the caller, row by row
         first_use = np.asarray(first_use_of_rows)[~blank]
     else:
-        registry_of_ids = seen_runs if seen_runs is not None else RunIds()
-        first_use = registry_of_ids.check(run_values, row_numbers)
-    problems.error(
-        first_use > 0,
-        lambda i: f"column 'run': duplicate run id '{run_values[i]}' (first used in row "
-        f"{first_use[i]}); run ids must be unique",
+        registry = seen_runs if seen_runs is not None else RunIds()
+        first_use = registry.check(text["run"].to_numpy(dtype=object), row_numbers)
+    check_run_ids(text["run"], first_use, problems)
+    check_methods(text["method"], column_text(raw, by_name["method"]), problems)
+    wet = read_wet(raw, by_name, problems)
+    # Units before cells: an unknown unit stops the file before any row is judged.
+    units = measured_units(by_name, source)
+    values, blanks = read_measured(raw, by_name, units, decimal_comma, problems)
+    stated = read_stated_uncertainties(raw, uncertainty_columns(by_name, units, source, notes),
+                                       decimal_comma, problems)
+    given, uncertainties, shared = fill_defaults(values, blanks, stated, profile, notes)
+    check_ranges(values, units, by_name, text, problems)
+    return RunTable(
+        raw=raw, row_numbers=row_numbers, text=text, wet=wet, values=values,
+        uncertainties=uncertainties, shared_uncertainties=shared, given=given,
+        errors=problems.errors, warnings=problems.warnings, notes=notes, units=units, source=source,
     )
-    # Few distinct spellings: normalise each once, then map back.
-    codes, spellings = pd.factorize(cells("method"))
-    normalised = np.array([re.sub(r"[\s_]+", "-", str(item).strip().lower()) for item in spellings]
-                          + [""], dtype=object)
-    method_values = normalised[codes]
-    method = pd.Series(method_values, dtype=object)
-    text["method"] = pd.Series(np.where(method_values == "", None, method_values), dtype=object)
-    unknown_method = ~method.isin(list(METHODS)).to_numpy()
-    method_text = cells("method").to_numpy()
-    problems.error(
-        unknown_method,
-        lambda i: f"column 'method': '{method_text[i]}' is not a method; accepted: "
-        + ", ".join(METHODS),
-    )
-
-    wet = np.zeros(n, dtype=bool)
-    if "wet" in by_name:
-        wet_text = cells("wet").str.strip().str.lower()
-        wet = wet_text.isin(list(_TRUE)).to_numpy()
-        bad_wet = ~(wet_text.isin(list(_TRUE)) | wet_text.isin(list(_FALSE))).to_numpy()
-        original = cells("wet").to_numpy()
-        problems.error(
-            bad_wet, lambda i: f"column 'wet': '{original[i]}' is not yes or no; accepted: yes, no"
-        )
-
-    # Measured columns.
-    units: dict[str, ColumnUnit] = {}
-    values: dict[str, np.ndarray] = {}
-    blanks: dict[str, np.ndarray] = {}
-    for name in MEASURED_COLUMNS:
-        kind = COLUMN_KINDS[name]
-        header = by_name.get(name)
-        try:
-            unit = resolve_unit(kind, header.unit if header else None)
-        except UnitProblem as problem:
-            raise InputError(f"{source}: column '{header.original}': {problem}") from None
-        units[name] = unit
-        if header is None:
-            values[name] = np.full(n, np.nan)
-            blanks[name] = np.ones(n, dtype=bool)
-            continue
-        numbers, is_blank, not_number = _numbers(cells(name), decimal_comma)
-        original = cells(name).to_numpy()
-        # The student's own result is not a measurement input: a bad cell there is only
-        # a warning, so the run is still analysed.
-        report = problems.warn if name == "reported_molar_mass" else problems.error
-        report(
-            not_number,
-            lambda i, name=name, unit=unit, original=original: (
-                f"column '{by_name[name].original}': '{original[i]}' is not a number; "
-                f"expected a number in {unit.text}"
-                + (" (a decimal comma works in semicolon- or tab-separated files only)"
-                   if not decimal_comma and "," in str(original[i]) else "")
-            ),
-        )
-        infinite = np.isinf(numbers)
-        problems.error(
-            infinite,
-            lambda i, name=name: f"column '{by_name[name].original}': the value is infinite; "
-            "give a finite number",
-        )
-        if name in REQUIRED_COLUMNS:
-            problems.error(
-                is_blank,
-                lambda i, name=name: f"column '{by_name[name].original}': the cell is empty; "
-                f"a value in {units[name].text} is required",
-            )
-        numbers = np.where(infinite, np.nan, numbers)
-        values[name] = numbers * unit.scale + unit.offset
-        blanks[name] = is_blank | not_number | infinite
-
-    # Uncertainty columns: u_<name> in the unit of its header, else of the column it qualifies.
-    stated: dict[str, np.ndarray] = {}
-    for header in headers:
-        if not header.name.startswith("u_"):
-            continue
-        target = header.name[2:]
-        targets = ("mass_tare", "mass_filled") if target == "mass" else (target,)
-        if not all(t in UNCERTAIN_INPUTS for t in targets):
-            notes.append(
-                f"column '{header.original}' is not an uncertainty of a measured input and was "
-                f"kept but not used; uncertainty columns: u_{', u_'.join(UNCERTAIN_INPUTS)}, u_mass"
-            )
-            continue
-        kind = COLUMN_KINDS[targets[0]]
-        try:
-            unit = resolve_unit(kind, header.unit) if header.unit else units[targets[0]]
-        except UnitProblem as problem:
-            raise InputError(f"{source}: column '{header.original}': {problem}") from None
-        numbers, is_blank, not_number = _numbers(raw[header.original].astype(str), decimal_comma)
-        original = raw[header.original].astype(str).to_numpy()
-        problems.error(
-            not_number | np.isinf(numbers),
-            lambda i, header=header, unit=unit, original=original: (
-                f"column '{header.original}': '{original[i]}' is not a finite number; "
-                f"expected a standard uncertainty in {unit.text}"
-            ),
-        )
-        negative = numbers < 0
-        problems.error(
-            negative,
-            lambda i, header=header: f"column '{header.original}': a standard uncertainty "
-            "cannot be negative",
-        )
-        if kind == "fraction":
-            too_wide = numbers * unit.delta_scale > 1.0
-            problems.error(
-                too_wide,
-                lambda i, header=header: f"column '{header.original}': a standard uncertainty "
-                "above 100 % cannot be; give it in % (or as a fraction, with '[1]' in the "
-                "header)",
-            )
-            negative = negative | too_wide
-        u_si = np.where(is_blank | not_number | negative | np.isinf(numbers), np.nan, numbers)
-        u_si = u_si * unit.delta_scale
-        for t in targets:
-            if t in stated and target == "mass":
-                continue  # a specific u_mass_tare beats the general u_mass
-            stated[t] = u_si
-
-    # Assumed inputs, and air conditions defaulting to the gas's.
-    given = {}
-    for name, gas_name in (("air_temperature", "temperature"), ("air_pressure", "pressure")):
-        given[name] = ~blanks[name]
-        values[name] = np.where(given[name], values[name], values[gas_name])
-    assumed_rows = {}
-    for name in ("humidity", "co2"):
-        assumed_value, assumed_rule = profile.assumed[name]
-        assumed_rows[name] = blanks[name]
-        if blanks[name].any():
-            how_many = "every row" if blanks[name].all() else "some rows"
-            width = assumed_rule.apply(assumed_value)
-            label = "relative humidity" if name == "humidity" else "CO2 mole fraction"
-            shown = f"{assumed_value * 100:g} %" if name == "humidity" else f"{assumed_value:g}"
-            shown_u = f"{width * 100:.1f} %" if name == "humidity" else f"{width:.2g}"
-            notes.append(
-                f"{label} not given for {how_many}: assumed {shown} with standard "
-                f"uncertainty {shown_u}"
-            )
-        values[name] = np.where(blanks[name], assumed_value, values[name])
-
-    uncertainties: dict[str, np.ndarray] = {}
-    shared: dict[str, np.ndarray] = {}
-    defaulted = []
-    for name in UNCERTAIN_INPUTS:
-        rule = profile.rule(name)
-        if name in ("humidity", "co2"):
-            _, assumed_rule = profile.assumed[name]
-            default = np.where(assumed_rows[name], assumed_rule.apply(values[name]),
-                               rule.apply(values[name]))
-            default_shared = np.where(assumed_rows[name], assumed_rule.apply_shared(values[name]),
-                                      rule.apply_shared(values[name]))
-        elif name in ("air_temperature", "air_pressure"):
-            # Where the gas's value stands in, the gas's uncertainty already covers it.
-            default = np.where(given[name], rule.apply(values[name]), 0.0)
-            default_shared = np.where(given[name], rule.apply_shared(values[name]), 0.0)
-        else:
-            default = rule.apply(values[name])
-            default_shared = rule.apply_shared(values[name])
-        if name in stated:
-            use_default = np.isnan(stated[name])
-            uncertainties[name] = np.where(use_default, default, stated[name])
-            # A u_<name> cell says nothing of calibration: it counts as run-to-run.
-            shared[name] = np.where(use_default, default_shared, 0.0)
-            if name in ("air_temperature", "air_pressure"):
-                uncertainties[name] = np.where(given[name], uncertainties[name], 0.0)
-                shared[name] = np.where(given[name], shared[name], 0.0)
-        else:
-            use_default = np.ones(n, dtype=bool)
-            uncertainties[name] = default
-            shared[name] = default_shared
-        if use_default.any() and name not in ("humidity", "co2") and (
-            name not in ("air_temperature", "air_pressure") or (given[name] & use_default).any()
-        ):
-            defaulted.append(name)
-    if defaulted:
-        where = (profile.source if profile.source == "default profile"
-                 else f"profile {profile.source}")
-        notes.append(
-            "no stated uncertainty for " + ", ".join(defaulted)
-            + f" in some or all rows: used the values of the {where}"
-        )
-
-    _check_ranges(values, units, by_name, text, problems)
-    table = RunTable(
-        raw=raw,
-        row_numbers=row_numbers,
-        text=text,
-        wet=wet,
-        values=values,
-        uncertainties=uncertainties,
-        shared_uncertainties=shared,
-        given=given,
-        errors=problems.errors,
-        warnings=problems.warnings,
-        notes=notes,
-        units=units,
-        source=source,
-    )
-    return table
-
-
-def _check_ranges(values, units, by_name, text, problems: _Problems) -> None:
-    """Errors for values that cannot be; warnings for values that look like a unit slip."""
-    volume = values["volume"]
-    problems.error(
-        volume <= 0,
-        lambda i: f"column '{by_name['volume'].original}': the volume must be > 0 "
-        f"(got {volume[i] / units['volume'].scale:g} {units['volume'].text})",
-    )
-    for name in ("temperature", "air_temperature"):
-        if name not in by_name:
-            continue
-        absolute = values[name]
-        problems.error(
-            absolute <= 0,
-            lambda i, name=name, absolute=absolute: (
-                f"column '{by_name[name].original}': {_written(absolute[i], units[name]):g} "
-                f"{units[name].text} is at or below absolute zero; give a temperature above 0 K"
-            ),
-        )
-        odd = (absolute > 0) & ((absolute < 200.0) | (absolute > 700.0))
-        problems.warn(
-            odd,
-            lambda i, name=name, absolute=absolute: (
-                f"{name.replace('_', ' ')} {_written(absolute[i], units[name]):g} "
-                f"{units[name].text}" + (f" = {absolute[i]:.1f} K" if units[name].scale != 1
-                                          or units[name].offset != 0 else "")
-                + " is unusual for gas weighing"
-                + _temperature_hint(units[name], _written(absolute[i], units[name]))
-            ),
-        )
-    for name in ("pressure", "air_pressure"):
-        if name not in by_name:
-            continue
-        pressure = values[name]
-        problems.error(
-            pressure <= 0,
-            lambda i, name=name: f"column '{by_name[name].original}': the pressure must be > 0",
-        )
-        odd = (pressure > 0) & ((pressure < 10e3) | (pressure > 250e3))
-        problems.warn(
-            odd,
-            lambda i, name=name, pressure=pressure: (
-                f"{name.replace('_', ' ')} {_written(pressure[i], units[name]):g} "
-                f"{units[name].text}" + (f" = {pressure[i] / 1000:.4g} kPa"
-                                          if units[name].text != "kPa" else "")
-                + " is unusual for a gas in glass"
-                + _pressure_hint_for(pressure[i], units[name])
-            ),
-        )
-    if "humidity" in by_name:
-        humidity = values["humidity"]
-        problems.error(
-            (humidity < 0) | (humidity > 1),
-            lambda i: f"column '{by_name['humidity'].original}': relative humidity "
-            f"{humidity[i] * 100:g} % is outside 0-100 %",
-        )
-    if "co2" in by_name:
-        co2 = values["co2"]
-        problems.error(
-            (co2 < 0) | (co2 > 0.05),
-            lambda i: f"column '{by_name['co2'].original}': a CO2 mole fraction of "
-            f"{co2[i]:g} is outside 0 to 0.05",
-        )
-    odd_volume = (volume > 0) & ((volume < 1e-6) | (volume > 20e-3))
-    problems.warn(
-        odd_volume,
-        lambda i: f"volume {_written(volume[i], units['volume']):g} {units['volume'].text} is "
-        "unusual for a bulb or syringe; check the volume unit",
-    )
-    difference = values["mass_filled"] - values["mass_tare"]
-    method = text["method"].to_numpy()
-    problems.error(
-        (method == "evacuated-bulb") & (difference <= 0),
-        lambda i: "columns 'mass_filled'/'mass_tare': an evacuated bulb cannot weigh less "
-        f"or the same when filled (difference {difference[i] / units['mass_tare'].scale:.6g} "
-        f"{units['mass_tare'].text}); check the tare and filled readings",
-    )
-
-
-def _written(value_si: float, unit: ColumnUnit) -> float:
-    return (value_si - unit.offset) / unit.scale
-
-
-def _pressure_hint_for(value_si: float, unit: ColumnUnit) -> str:
-    written = _written(value_si, unit)
-    for candidate in ("mmHg", "inHg", "atm", "bar", "Pa", "hPa", "psi", "kPa"):
-        if candidate == unit.text:
-            continue
-        if 80e3 <= written * resolve_unit("pressure", candidate).scale <= 110e3:
-            return f"; the number would be an ordinary room pressure in {candidate}"
-    return ""
 
 
 def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None) -> RunTable:

@@ -1,0 +1,204 @@
+"""Checks of parsed values: run ids, method names, and values that cannot be or look like a unit slip.
+
+A value that cannot be (a volume of zero, a temperature below absolute zero) is
+an error and stops its row; a value that is possible but unusual for gas
+weighing (a gas at 21 K) is a warning with, where one fits, the unit the number
+would make sense in.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from molid.io.columns import METHODS
+from molid.io.headers import Header
+from molid.io.problems import RowProblems
+from molid.io.units import ColumnUnit, resolve_unit
+
+__all__ = ["check_run_ids", "check_methods", "check_ranges"]
+
+
+def check_run_ids(run_ids: pd.Series, first_use: np.ndarray, problems: RowProblems) -> None:
+    """Errors for empty and duplicate run ids.
+
+    Parameters
+    ----------
+    run_ids : pandas.Series of object
+        Run id of each row, None where blank.
+    first_use : numpy.ndarray of int
+        For each row, the row that first used its id; 0 where new.
+    problems : RowProblems
+        Where the errors go.
+    """
+    problems.error(run_ids.isna().to_numpy(),
+                   lambda i: "column 'run': the run id is empty; give each run a unique id")
+    ids = run_ids.to_numpy(dtype=object)
+    problems.error(
+        first_use > 0,
+        lambda i: f"column 'run': duplicate run id '{ids[i]}' (first used in row "
+        f"{first_use[i]}); run ids must be unique",
+    )
+
+
+def check_methods(methods: pd.Series, written: pd.Series, problems: RowProblems) -> None:
+    """Errors for methods that are not registered (a blank method included).
+
+    Parameters
+    ----------
+    methods : pandas.Series of object
+        Normalised method names, None where blank.
+    written : pandas.Series of str
+        The method cells as the user wrote them, for the messages.
+    problems : RowProblems
+        Where the errors go.
+    """
+    unknown = ~methods.isin(list(METHODS)).to_numpy()
+    original = written.to_numpy()
+    problems.error(
+        unknown,
+        lambda i: f"column 'method': '{original[i]}' is not a method; accepted: "
+        + ", ".join(METHODS),
+    )
+
+
+def check_ranges(values: dict, units: dict[str, ColumnUnit], by_name: dict[str, Header],
+                 text: pd.DataFrame, problems: RowProblems) -> None:
+    """Errors for values that cannot be; warnings for values that look like a unit slip.
+
+    Parameters
+    ----------
+    values : dict of numpy.ndarray
+        SI values of each measured column.
+    units : dict of ColumnUnit
+        The unit each column was written in, to quote values as the user wrote them.
+    by_name : dict of Header
+        The file's headers by column name.
+    text : pandas.DataFrame
+        The text columns; the method decides which readings must differ.
+    problems : RowProblems
+        Where the errors and warnings go.
+    """
+    volume = values["volume"]
+    problems.error(
+        volume <= 0,
+        lambda i: f"column '{by_name['volume'].original}': the volume must be > 0 "
+        f"(got {volume[i] / units['volume'].scale:g} {units['volume'].text})",
+    )
+    for name in ("temperature", "air_temperature"):
+        if name in by_name:
+            _check_temperature(name, values[name], units[name], by_name[name], problems)
+    for name in ("pressure", "air_pressure"):
+        if name in by_name:
+            _check_pressure(name, values[name], units[name], by_name[name], problems)
+    _check_fractions(values, by_name, problems)
+    odd_volume = (volume > 0) & ((volume < 1e-6) | (volume > 20e-3))
+    problems.warn(
+        odd_volume,
+        lambda i: f"volume {_as_written(volume[i], units['volume']):g} {units['volume'].text} is "
+        "unusual for a bulb or syringe; check the volume unit",
+    )
+    _check_mass_difference(values, units, text, problems)
+
+
+def _check_temperature(name: str, absolute: np.ndarray, unit: ColumnUnit, header: Header,
+                       problems: RowProblems) -> None:
+    """Error at or below absolute zero; warning outside 200-700 K."""
+    problems.error(
+        absolute <= 0,
+        lambda i: (
+            f"column '{header.original}': {_as_written(absolute[i], unit):g} "
+            f"{unit.text} is at or below absolute zero; give a temperature above 0 K"
+        ),
+    )
+    odd = (absolute > 0) & ((absolute < 200.0) | (absolute > 700.0))
+    problems.warn(
+        odd,
+        lambda i: (
+            f"{name.replace('_', ' ')} {_as_written(absolute[i], unit):g} "
+            f"{unit.text}" + (f" = {absolute[i]:.1f} K" if unit.scale != 1
+                              or unit.offset != 0 else "")
+            + " is unusual for gas weighing"
+            + _temperature_hint(unit, _as_written(absolute[i], unit))
+        ),
+    )
+
+
+def _check_pressure(name: str, pressure: np.ndarray, unit: ColumnUnit, header: Header,
+                    problems: RowProblems) -> None:
+    """Error at or below zero; warning outside 10-250 kPa."""
+    problems.error(
+        pressure <= 0,
+        lambda i: f"column '{header.original}': the pressure must be > 0",
+    )
+    odd = (pressure > 0) & ((pressure < 10e3) | (pressure > 250e3))
+    problems.warn(
+        odd,
+        lambda i: (
+            f"{name.replace('_', ' ')} {_as_written(pressure[i], unit):g} "
+            f"{unit.text}" + (f" = {pressure[i] / 1000:.4g} kPa"
+                              if unit.text != "kPa" else "")
+            + " is unusual for a gas in glass"
+            + _pressure_hint(pressure[i], unit)
+        ),
+    )
+
+
+def _check_fractions(values: dict, by_name: dict[str, Header], problems: RowProblems) -> None:
+    """Errors for a relative humidity outside 0-100 % and a CO2 fraction outside 0-0.05."""
+    if "humidity" in by_name:
+        humidity = values["humidity"]
+        problems.error(
+            (humidity < 0) | (humidity > 1),
+            lambda i: f"column '{by_name['humidity'].original}': relative humidity "
+            f"{humidity[i] * 100:g} % is outside 0-100 %",
+        )
+    if "co2" in by_name:
+        co2 = values["co2"]
+        problems.error(
+            (co2 < 0) | (co2 > 0.05),
+            lambda i: f"column '{by_name['co2'].original}': a CO2 mole fraction of "
+            f"{co2[i]:g} is outside 0 to 0.05",
+        )
+
+
+def _check_mass_difference(values: dict, units: dict[str, ColumnUnit], text: pd.DataFrame,
+                           problems: RowProblems) -> None:
+    """Error where an evacuated bulb does not weigh more filled than empty."""
+    difference = values["mass_filled"] - values["mass_tare"]
+    method = text["method"].to_numpy()
+    problems.error(
+        (method == "evacuated-bulb") & (difference <= 0),
+        lambda i: "columns 'mass_filled'/'mass_tare': an evacuated bulb cannot weigh less "
+        f"or the same when filled (difference {difference[i] / units['mass_tare'].scale:.6g} "
+        f"{units['mass_tare'].text}); check the tare and filled readings",
+    )
+
+
+def _as_written(value_si: float, unit: ColumnUnit) -> float:
+    """Convert a SI value back to the unit the user wrote it in."""
+    return (value_si - unit.offset) / unit.scale
+
+
+def _temperature_hint(unit: ColumnUnit, written: float) -> str:
+    """Name another unit in which the number would be a lab temperature, if one fits."""
+    for candidate in ("degC", "K", "degF"):
+        if candidate == unit.text:
+            continue
+        converted = written * resolve_unit("temperature", candidate).scale + resolve_unit(
+            "temperature", candidate
+        ).offset
+        if 273.0 <= converted <= 400.0:
+            return f"; it would be a lab temperature in {candidate}"
+    return ""
+
+
+def _pressure_hint(value_si: float, unit: ColumnUnit) -> str:
+    """Name another unit in which the number would be a room pressure, if one fits."""
+    written = _as_written(value_si, unit)
+    for candidate in ("mmHg", "inHg", "atm", "bar", "Pa", "hPa", "psi", "kPa"):
+        if candidate == unit.text:
+            continue
+        if 80e3 <= written * resolve_unit("pressure", candidate).scale <= 110e3:
+            return f"; the number would be an ordinary room pressure in {candidate}"
+    return ""
