@@ -207,10 +207,53 @@ def _library(args) -> int:
     return EXIT_OK
 
 
-def _grade(args) -> int:
-    from molid.teaching.grading import run_grade_command
+def _plots_folder(args):
+    """Check the ``--plots`` folder of ``molid grade`` before any work: None without the option."""
+    if not args.plots:
+        return None
+    from pathlib import Path
 
-    return run_grade_command(args)
+    from molid.io.safe_files import OutputRefused
+    from molid.teaching.class_plots import PLOT_FILES
+
+    plots = Path(args.plots)
+    if plots.exists() and not plots.is_dir():
+        raise OutputRefused(f"{plots}: is a file; --plots needs a folder")
+    if not plots.parent.exists():
+        raise OutputRefused(f"{plots}: the folder {plots.parent} does not exist")
+    existing = [plots / name for name in PLOT_FILES if (plots / name).exists()]
+    if existing and not args.force:
+        raise OutputRefused(f"{existing[0]}: already exists; use --force to replace the plots")
+    return plots
+
+
+def _grade(args) -> int:
+    import json
+
+    from molid.io.safe_files import check_output_path, write_atomic
+    from molid.teaching.grades_output import grades_csv, grades_table, grading_document
+    from molid.teaching.grading import grade
+
+    inputs = [args.file, args.profile, args.library, args.key, args.rubric]
+    output = check_output_path(args.output, inputs, args.force) if args.output else None
+    plots = _plots_folder(args)
+    grading = grade(args.file, key=args.key, rubric=args.rubric, profile=args.profile,
+                    library=_load_library(args))
+    if args.json:
+        sys.stdout.write(json.dumps(grading_document(grading, args.top), indent=2,
+                                    ensure_ascii=False, allow_nan=False) + "\n")
+    else:
+        sys.stdout.write(grades_table(grading))
+    if output is not None:
+        write_atomic(output, grades_csv(grading))
+        print(f"wrote {output}", file=sys.stderr)
+    if plots is not None:
+        from molid.teaching.class_plots import write_class_plots
+
+        plots.mkdir(exist_ok=True)
+        for path in write_class_plots(grading, plots):
+            print(f"wrote {path}", file=sys.stderr)
+    return EXIT_ROW_ERRORS if not grading.ok.all() else EXIT_OK
 
 
 def _report(args) -> int:

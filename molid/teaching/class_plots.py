@@ -12,7 +12,10 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["percent_error_figure", "interval_figure", "write_class_plots"]
+__all__ = ["PLOT_FILES", "percent_error_figure", "interval_figure", "write_class_plots"]
+
+#: The files :func:`write_class_plots` writes, in order.
+PLOT_FILES = ("percent_error.png", "percent_error.svg", "intervals.png", "intervals.svg")
 
 _CORRECT = "#1f5fa8"
 _MISTAKE = "#c0392b"
@@ -56,6 +59,49 @@ def _kind(codes) -> str:
     return "unexplained" if list(codes) == ["unexplained"] else "mistake"
 
 
+_STYLES = {
+    "correct": dict(marker="o", color=_CORRECT, label="no mistake found"),
+    "mistake": dict(marker="X", color=_MISTAKE, label="diagnosed mistake"),
+    "unexplained": dict(marker="^", color=_UNEXPLAINED,
+                        label="disagrees with own readings, unexplained"),
+}
+
+
+def _draw_unknown(axes, place, group, seen):
+    """Draw the runs of one unknown in its column, and their median; ``seen`` holds legend entries."""
+    errors = group["percent_error"].to_numpy(dtype=float)
+    count = len(group)
+    # spread the runs of one unknown evenly across its column
+    offsets = np.linspace(-0.25, 0.25, count) if count > 1 else np.zeros(1)
+    flagged = 0
+    for offset, error, codes, label in zip(offsets, errors, group["diagnosis"],
+                                           group["label"], strict=True):
+        if not np.isfinite(error):
+            continue
+        kind = _kind(codes)
+        style = dict(_STYLES[kind])
+        name = style.pop("label")
+        legend = name if kind not in seen else None
+        seen.add(kind)
+        axes.scatter([place + offset], [error], s=46 if kind == "correct" else 70,
+                     zorder=3, label=legend, edgecolors="white", linewidths=0.6, **style)
+        if kind != "correct":
+            # alternate above and below, so labels of neighbouring runs do not collide
+            axes.annotate(label, (place + offset, error),
+                          xytext=(0, 10 if flagged % 2 == 0 else -11),
+                          textcoords="offset points", fontsize=7, color=style["color"],
+                          ha="center", va="center")
+            flagged += 1
+    clean = np.array([not codes for codes in group["diagnosis"]], dtype=bool)
+    finite = errors[np.isfinite(errors) & clean]
+    if finite.size:
+        axes.hlines(np.median(finite), place - 0.35, place + 0.35, color="black",
+                    linewidth=1.6, zorder=2,
+                    label="median of the runs with no mistake found"
+                    if "median" not in seen else None)
+        seen.add("median")
+
+
 def percent_error_figure(grading):
     """Draw the percent error of every graded run, grouped by unknown.
 
@@ -79,43 +125,7 @@ def percent_error_figure(grading):
     axes.axhline(0.0, color="black", linewidth=0.8, zorder=1)
     seen = set()
     for place, unknown in enumerate(unknowns):
-        group = graded[graded["unknown"] == unknown]
-        errors = group["percent_error"].to_numpy(dtype=float)
-        count = len(group)
-        # spread the runs of one unknown evenly across its column
-        offsets = np.linspace(-0.25, 0.25, count) if count > 1 else np.zeros(1)
-        flagged = 0
-        for offset, error, codes, label in zip(offsets, errors, group["diagnosis"],
-                                               group["label"], strict=True):
-            if not np.isfinite(error):
-                continue
-            kind = _kind(codes)
-            style = {
-                "correct": dict(marker="o", color=_CORRECT, label="no mistake found"),
-                "mistake": dict(marker="X", color=_MISTAKE, label="diagnosed mistake"),
-                "unexplained": dict(marker="^", color=_UNEXPLAINED,
-                                    label="disagrees with own readings, unexplained"),
-            }[kind]
-            name = style.pop("label")
-            legend = name if kind not in seen else None
-            seen.add(kind)
-            axes.scatter([place + offset], [error], s=46 if kind == "correct" else 70,
-                         zorder=3, label=legend, edgecolors="white", linewidths=0.6, **style)
-            if kind != "correct":
-                # alternate above and below, so labels of neighbouring runs do not collide
-                axes.annotate(label, (place + offset, error),
-                              xytext=(0, 10 if flagged % 2 == 0 else -11),
-                              textcoords="offset points", fontsize=7, color=style["color"],
-                              ha="center", va="center")
-                flagged += 1
-        clean = np.array([not codes for codes in group["diagnosis"]], dtype=bool)
-        finite = errors[np.isfinite(errors) & clean]
-        if finite.size:
-            axes.hlines(np.median(finite), place - 0.35, place + 0.35, color="black",
-                        linewidth=1.6, zorder=2,
-                        label="median of the runs with no mistake found"
-                        if "median" not in seen else None)
-            seen.add("median")
+        _draw_unknown(axes, place, graded[graded["unknown"] == unknown], seen)
     axes.set_yscale("symlog", linthresh=1.0)
     every = graded["percent_error"].to_numpy(dtype=float)
     every = every[np.isfinite(every)]
@@ -134,6 +144,58 @@ def percent_error_figure(grading):
     axes.grid(axis="y", color="#dddddd", linewidth=0.6, zorder=0)
     axes.legend(loc="best", fontsize=8, framealpha=0.9)
     return figure
+
+
+def _interval_limit(deviation, half_width) -> float:
+    """Half-width of the deviation axis [%]: room for most intervals, not for the widest."""
+    count = len(deviation)
+    reach = np.abs(deviation) + half_width
+    # a few wide intervals (light gases in a syringe) must not squash all the others
+    limit = max(0.5, float(np.nanpercentile(reach, 80)) * 1.6) if count else 1.0
+    return min(limit, float(np.nanmax(reach)) * 1.05) if count else limit
+
+
+def _draw_intervals(axes, y, deviation, half_width, inside, limit):
+    """Draw each run's interval as a bar, and write the ends of those the axis cuts off."""
+    axes.axvline(0.0, color="black", linewidth=1.0, label="true molar mass")
+    for mask, color, label in ((inside, _CORRECT, "interval contains the true value"),
+                               (~inside, _OUTSIDE, "interval misses the true value")):
+        if mask.any():
+            axes.errorbar(deviation[mask], y[mask], xerr=half_width[mask], fmt="o",
+                          color=color, ecolor=color, elinewidth=1.4, capsize=3, markersize=4,
+                          label=label)
+    for row_y, low, high in zip(y, deviation - half_width, deviation + half_width, strict=True):
+        if high > limit or low < -limit:
+            axes.annotate(f"interval {low:+.1f} to {high:+.1f} %", (limit, row_y),
+                          xytext=(-3, 4), textcoords="offset points", ha="right", va="bottom",
+                          fontsize=6.5, color="#444444")
+
+
+def _label_runs(axes, y, graded):
+    """Name each run on the left, coloured by the kind of its reported result; return the kinds."""
+    names = [
+        f"{run}  {student if isinstance(student, str) else ''}  ({unknown})"
+        for run, student, unknown in zip(graded["run"], graded["student"], graded["unknown"],
+                                         strict=True)
+    ]
+    axes.set_yticks(y, names, fontsize=8)
+    kinds = [_kind(codes) for codes in graded["diagnosis"]]
+    for tick, kind in zip(axes.get_yticklabels(), kinds, strict=True):
+        if kind != "correct":
+            tick.set_color(_MISTAKE if kind == "mistake" else _UNEXPLAINED)
+    return kinds
+
+
+def _label_reported_mistakes(axes, y, kinds, labels):
+    """Write each run's diagnosed mistake on a right-hand axis, level with its interval."""
+    right = axes.twinx()
+    right.set_ylim(axes.get_ylim())
+    right.set_yticks(y, [f"reported: {label}" if kind != "correct" else ""
+                         for kind, label in zip(kinds, labels, strict=True)],
+                     fontsize=7.5)
+    for tick, kind in zip(right.get_yticklabels(), kinds, strict=True):
+        tick.set_color(_MISTAKE if kind == "mistake" else _UNEXPLAINED)
+    right.tick_params(axis="y", length=0)
 
 
 def interval_figure(grading):
@@ -163,42 +225,12 @@ def interval_figure(grading):
     half_width = 100.0 * graded["true_gas_U"].to_numpy(dtype=float) / true_mass
     inside = graded["in_interval"].fillna(False).to_numpy(dtype=bool)
     y = np.arange(count)[::-1]
-    axes.axvline(0.0, color="black", linewidth=1.0, label="true molar mass")
-    for mask, color, label in ((inside, _CORRECT, "interval contains the true value"),
-                               (~inside, _OUTSIDE, "interval misses the true value")):
-        if mask.any():
-            axes.errorbar(deviation[mask], y[mask], xerr=half_width[mask], fmt="o",
-                          color=color, ecolor=color, elinewidth=1.4, capsize=3, markersize=4,
-                          label=label)
-    names = [
-        f"{run}  {student if isinstance(student, str) else ''}  ({unknown})"
-        for run, student, unknown in zip(graded["run"], graded["student"], graded["unknown"],
-                                         strict=True)
-    ]
-    axes.set_yticks(y, names, fontsize=8)
-    kinds = [_kind(codes) for codes in graded["diagnosis"]]
-    reach = np.abs(deviation) + half_width
-    # a few wide intervals (light gases in a syringe) must not squash all the others
-    limit = max(0.5, float(np.nanpercentile(reach, 80)) * 1.6) if count else 1.0
-    limit = min(limit, float(np.nanmax(reach)) * 1.05) if count else limit
-    for row_y, low, high in zip(y, deviation - half_width, deviation + half_width, strict=True):
-        if high > limit or low < -limit:
-            axes.annotate(f"interval {low:+.1f} to {high:+.1f} %", (limit, row_y),
-                          xytext=(-3, 4), textcoords="offset points", ha="right", va="bottom",
-                          fontsize=6.5, color="#444444")
-    for tick, kind in zip(axes.get_yticklabels(), kinds, strict=True):
-        if kind != "correct":
-            tick.set_color(_MISTAKE if kind == "mistake" else _UNEXPLAINED)
+    limit = _interval_limit(deviation, half_width)
+    _draw_intervals(axes, y, deviation, half_width, inside, limit)
+    kinds = _label_runs(axes, y, graded)
     axes.set_xlim(-limit, limit)
     axes.set_ylim(-0.8, count - 0.2)
-    right = axes.twinx()
-    right.set_ylim(axes.get_ylim())
-    right.set_yticks(y, [f"reported: {label}" if kind != "correct" else ""
-                         for kind, label in zip(kinds, graded["label"], strict=True)],
-                     fontsize=7.5)
-    for tick, kind in zip(right.get_yticklabels(), kinds, strict=True):
-        tick.set_color(_MISTAKE if kind == "mistake" else _UNEXPLAINED)
-    right.tick_params(axis="y", length=0)
+    _label_reported_mistakes(axes, y, kinds, graded["label"])
     axes.set_xlabel("recomputed molar mass for the true gas − true molar mass [%]\n"
                     "(bars: expanded uncertainty U, k = 2)")
     axes.set_title("Recomputed interval of each run against the true molar mass\n"

@@ -147,8 +147,8 @@ def _number(value, key, problems, *, minimum=0.0):
     return value
 
 
-def _parse(data: dict, source: str) -> Rubric:
-    problems: list[str] = []
+def _merge_with_defaults(data: dict, problems: list) -> dict:
+    """Lay a user's rubric over the defaults key by key, noting unknown sections and keys."""
     merged = {section: dict(values) for section, values in _defaults().items()}
     for section, values in data.items():
         if section not in _SECTIONS:
@@ -164,32 +164,37 @@ def _parse(data: dict, source: str) -> Rubric:
                                 f"[{section}]: " + ", ".join(sorted(_SECTIONS[section])))
                 continue
             merged[section][key] = value
+    return merged
 
-    accuracy = merged["percent_error"]
+
+def _parse_bands(bands_value, problems: list) -> list:
+    """Read the percent-error bands: ``(up_to, points)`` pairs, limits rising and points not."""
     bands = []
-    if not isinstance(accuracy["bands"], list) or not accuracy["bands"]:
+    if not isinstance(bands_value, list) or not bands_value:
         problems.append("rubric key 'percent_error.bands' must be a non-empty list of "
                         "{ up_to = PERCENT, points = POINTS }")
-    else:
-        for place, band in enumerate(accuracy["bands"]):
-            key = f"percent_error.bands[{place}]"
-            if not isinstance(band, dict) or set(band) != {"up_to", "points"}:
-                problems.append(f"rubric key '{key}': write {{ up_to = PERCENT, points = POINTS }}")
-                continue
-            bands.append((_number(band["up_to"], f"{key}.up_to", problems),
-                          _number(band["points"], f"{key}.points", problems)))
-        limits = [limit for limit, _ in bands]
-        if any(later <= earlier for earlier, later in zip(limits, limits[1:], strict=False)):
-            problems.append("rubric key 'percent_error.bands': the up_to limits must increase "
-                            f"(got {', '.join(f'{limit:g}' for limit in limits)})")
-        points = [value for _, value in bands]
-        if any(later > earlier for earlier, later in zip(points, points[1:], strict=False)):
-            problems.append("rubric key 'percent_error.bands': a larger error cannot earn more "
-                            f"points (got {', '.join(f'{value:g}' for value in points)})")
-    beyond = _number(accuracy["beyond"], "percent_error.beyond", problems)
+        return bands
+    for place, band in enumerate(bands_value):
+        key = f"percent_error.bands[{place}]"
+        if not isinstance(band, dict) or set(band) != {"up_to", "points"}:
+            problems.append(f"rubric key '{key}': write {{ up_to = PERCENT, points = POINTS }}")
+            continue
+        bands.append((_number(band["up_to"], f"{key}.up_to", problems),
+                      _number(band["points"], f"{key}.points", problems)))
+    limits = [limit for limit, _ in bands]
+    if any(later <= earlier for earlier, later in zip(limits, limits[1:], strict=False)):
+        problems.append("rubric key 'percent_error.bands': the up_to limits must increase "
+                        f"(got {', '.join(f'{limit:g}' for limit in limits)})")
+    points = [value for _, value in bands]
+    if any(later > earlier for earlier, later in zip(points, points[1:], strict=False)):
+        problems.append("rubric key 'percent_error.bands': a larger error cannot earn more "
+                        f"points (got {', '.join(f'{value:g}' for value in points)})")
+    return bands
 
-    identification = merged["identification"]
-    identification_points = _number(identification["points"], "identification.points", problems)
+
+def _parse_identification(identification: dict, problems: list) -> tuple:
+    """Read the identification section: points, the candidates chosen among, and extra ones."""
+    points = _number(identification["points"], "identification.points", problems)
     among = identification["among"]
     if among not in _AMONG:
         problems.append(f"rubric key 'identification.among': {among!r} is not one of "
@@ -198,10 +203,18 @@ def _parse(data: dict, source: str) -> Rubric:
     if not isinstance(also, list) or not all(isinstance(item, str) for item in also):
         problems.append("rubric key 'identification.also' must be a list of names or formulas")
         also = []
+    return points, among, also
 
+
+def _parse(data: dict, source: str) -> Rubric:
+    """Validate a rubric's contents laid over the defaults; every problem is reported at once."""
+    problems: list[str] = []
+    merged = _merge_with_defaults(data, problems)
+    bands = _parse_bands(merged["percent_error"]["bands"], problems)
+    beyond = _number(merged["percent_error"]["beyond"], "percent_error.beyond", problems)
+    identification_points, among, also = _parse_identification(merged["identification"], problems)
     deductions = {code: _number(merged["deductions"][code], f"deductions.{code}", problems)
                   for code in (*MISTAKE_CODES, UNEXPLAINED)}
-
     diagnosis = merged["diagnosis"]
     carry_forward = diagnosis["carry_forward"]
     if not isinstance(carry_forward, bool):

@@ -16,18 +16,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from molid.cli import main
-from molid.teaching.grading import (
-    MAD_SCALE,
-    OUTLIER_LIMIT,
-    KeyFileError,
-    grade,
-    grades_csv,
-    grading_document,
-    read_key,
-    robust_spread,
-    robust_z,
-    summarise,
-)
+from molid.teaching.answer_key import KeyFileError, read_key
+from molid.teaching.class_summary import MAD_SCALE, OUTLIER_LIMIT, robust_spread, robust_z, summarise
+from molid.teaching.grades_output import grades_csv, grading_document
+from molid.teaching.grading import grade
 from molid.teaching.rubric import RubricError, load_rubric
 
 test_diagnosis = pytest.importorskip("test_diagnosis")
