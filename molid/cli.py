@@ -124,8 +124,10 @@ def _identify(args) -> int:
     library = _load_library(args)
     if output is not None and not args.json and _is_large_csv(args.file):
         return _identify_streaming(args, output, library)
-    from molid.io.export import to_csv, to_json, to_table
+    from molid.io.json_document import to_json
+    from molid.io.run_csv import to_csv
     from molid.io.safe_files import write_atomic
+    from molid.io.terminal import to_table
     from molid.pipeline.identify import identify
 
     result = identify(args.file, profile=args.profile, library=library)

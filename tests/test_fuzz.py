@@ -9,8 +9,9 @@ import pandas as pd
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from molid.io.export import to_csv, to_json
+from molid.io.json_document import to_json
 from molid.io.reading import InputError
+from molid.io.run_csv import to_csv
 from molid.pipeline.identify import identify
 
 COLUMNS = {

@@ -206,8 +206,34 @@ def tsonopoulos_polar_coefficients(polar_class, reduced_dipole, hill_formula=Non
     ([0.0878, -0.0109], [0.05152, 0.0])
     """
     classes = polar_class_array(polar_class)
-    dipole = np.asarray(reduced_dipole, dtype=float)
-    classes, dipole = np.broadcast_arrays(classes, dipole)
+    classes, dipole = np.broadcast_arrays(classes, np.asarray(reduced_dipole, dtype=float))
+    return _select_polar_coefficients(classes, dipole, hill_formula)
+
+
+def _select_polar_coefficients(classes, dipole, hill_formula=None):
+    r"""Pick each substance's a and b by its polar class (rules in :func:`tsonopoulos_polar_coefficients`).
+
+    Parameters
+    ----------
+    classes : numpy.ndarray of str
+        Checked polar classes, broadcast to the shape of ``dipole``.
+    dipole : numpy.ndarray
+        Reduced dipole moment :math:`\mu_r` [-].
+    hill_formula : array_like of str, optional
+        Hill formula of each substance; methanol then gets its own b instead
+        of the 1-alkanol form.
+
+    Returns
+    -------
+    a, b : numpy.ndarray
+        Polar coefficients [-]; zero for the ``nonpolar`` and ``quantum`` classes.
+
+    Notes
+    -----
+    Each class's expression is evaluated for every substance and the class
+    masks pick among them, so one vectorised pass serves a mixed list of
+    candidates; ``inorganic-polar`` shares the aprotic (ketone) form.
+    """
     dipole_8 = dipole**8
     a_aprotic = -2.140e-4 * dipole - 4.308e-21 * dipole_8
     a_halo = -2.188e-11 * dipole**4 - 7.831e-21 * dipole_8
@@ -496,17 +522,9 @@ def quantum_effective_critical_constants(
     return effective_temperature, effective_pressure
 
 
-def second_virial(
-    temperature,
-    critical_temperature,
-    critical_pressure,
-    acentric_factor,
-    dipole_moment_D,
-    polar_class,
-    molar_mass,
-    hill_formula=None,
-    return_derivative=False,
-):
+def second_virial(temperature, critical_temperature, critical_pressure, acentric_factor,
+                  dipole_moment_D, polar_class, molar_mass, hill_formula=None,
+                  return_derivative=False):
     r"""Second virial coefficient of each candidate, with the rule of its polar class.
 
     Parameters
@@ -575,8 +593,35 @@ def second_virial(
     >>> B.shape
     (2, 2)
     """
-    temperature = np.asarray(temperature)
     classes = polar_class_array(polar_class)
+    constants = _class_constants(classes, critical_temperature, critical_pressure, acentric_factor,
+                                 dipole_moment_D, hill_formula)
+    shifts = _quantum_shifts(classes == "quantum", molar_mass)
+    return _shifted_second_virial(np.asarray(temperature), *constants, *shifts, return_derivative)
+
+
+def _class_constants(classes, critical_temperature, critical_pressure, acentric_factor,
+                     dipole_moment_D, hill_formula=None):
+    """Apply each polar class's rule to the constants the correlation takes.
+
+    Parameters
+    ----------
+    classes : numpy.ndarray of str
+        Checked polar classes (:func:`polar_class_array`).
+    critical_temperature, critical_pressure, acentric_factor, dipole_moment_D, hill_formula
+        As for :func:`second_virial`.
+
+    Returns
+    -------
+    critical_temperature : numpy.ndarray
+        Tc [K]; the classical Tc⁰ for the quantum class when ``hill_formula`` is given.
+    critical_pressure : numpy.ndarray
+        Pc [Pa]; the classical Pc⁰ likewise.
+    acentric_factor : numpy.ndarray
+        ω [-]; zero for the quantum class, as the effective-constant correction assumes.
+    a, b : numpy.ndarray
+        Polar coefficients [-] (:func:`tsonopoulos_polar_coefficients`).
+    """
     critical_temperature = np.asarray(critical_temperature, dtype=float)
     critical_pressure = np.asarray(critical_pressure, dtype=float)
     mu_r = reduced_dipole(dipole_moment_D, critical_temperature, critical_pressure)
@@ -589,23 +634,37 @@ def second_virial(
         critical_temperature = np.where(quantum, classical_temperature, critical_temperature)
         critical_pressure = np.where(quantum, classical_pressure, critical_pressure)
     omega = np.where(quantum, 0.0, np.asarray(acentric_factor, dtype=float))
+    return critical_temperature, critical_pressure, omega, a, b
 
-    # Ordinary substances get c1 = c2 = 0, which reduces the quantum form to
-    # the plain correlation; one expression keeps the code complex-safe and
-    # free of per-class branches on temperature.
+
+def _quantum_shifts(quantum, molar_mass):
+    """Temperature shifts c1, c2 [K] of the effective critical constants; zero outside ``quantum``.
+
+    Ordinary substances get c1 = c2 = 0, which reduces the quantum form to the
+    plain correlation; one expression keeps the code complex-safe and free of
+    per-class branches on temperature.
+    """
     inverse_mass = np.where(quantum, 1.0 / np.asarray(molar_mass, dtype=float), 0.0)
-    c1 = _QUANTUM_TEMPERATURE_CONSTANT * inverse_mass
-    c2 = _QUANTUM_PRESSURE_CONSTANT * inverse_mass
+    return _QUANTUM_TEMPERATURE_CONSTANT * inverse_mass, _QUANTUM_PRESSURE_CONSTANT * inverse_mass
+
+
+def _shifted_second_virial(temperature, critical_temperature, critical_pressure, acentric_factor,
+                           a, b, c1, c2, return_derivative=False):
+    """Evaluate B, and dB/dT on request, in the shifted form given in :func:`second_virial`'s Notes.
+
+    The derivative is analytic: product and chain rules through T + c1 and
+    T + c2. Complex-step safe in ``temperature``.
+    """
     shifted_1 = temperature + c1
     shifted_2 = temperature + c2
     scale = GAS_CONSTANT * critical_temperature / critical_pressure
     ratio = shifted_2 / shifted_1
     x = critical_temperature / shifted_1
-    reduced = _reduced_terms(x, omega, a, b)
+    reduced = _reduced_terms(x, acentric_factor, a, b)
     B = scale * ratio * reduced
     if not return_derivative:
         return B
-    slope = _reduced_terms_slope(x, omega, a, b)
+    slope = _reduced_terms_slope(x, acentric_factor, a, b)
     d_ratio = (c1 - c2) / (shifted_1 * shifted_1)
     dx = -x / shifted_1
     dB = scale * (d_ratio * reduced + ratio * slope * dx)

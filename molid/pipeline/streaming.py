@@ -145,7 +145,47 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
     library = load_library() if library is None else library
-    path = Path(source)
+    plan = _plan_chunks(Path(source), chunk_rows)
+    progress_line = _Progress(count_data_lines(plan.path), progress)
+    summary = StreamSummary()
+    appender = _OrderedAppender(summary, plan.notes, progress_line)
+    _write_chunks(plan, Path(output), appender, _worker_count(workers), profile, library)
+    progress_line.update(summary.runs, final=True)
+    summary.notes = _merge_notes(plan.notes)
+    summary.notes.append("replicates were not combined: a large file written straight to CSV "
+                         "gives one row per run")
+    summary.seconds = time.monotonic() - started
+    return summary
+
+
+@dataclass
+class _ChunkPlan:
+    """How to read a run file in chunks: its encoding, separator and chunk size.
+
+    ``notes`` collects the file's notes in the order they are first met (a dict
+    used as an ordered set): the encoding note first, then each chunk's.
+    """
+
+    path: Path
+    encoding: str
+    separator: str
+    chunk_rows: int
+    notes: dict
+
+    @property
+    def decimal_comma(self) -> bool:
+        """Whether numbers use a decimal comma (the file is semicolon- or tab-separated)."""
+        return self.separator in (";", "\t")
+
+    def reader(self):
+        """Open the file as an iterator of DataFrame chunks of text cells."""
+        return pd.read_csv(self.path, sep=self.separator, dtype=str, keep_default_na=False,
+                           skip_blank_lines=False, skipinitialspace=True,
+                           encoding=self.encoding, chunksize=self.chunk_rows)
+
+
+def _plan_chunks(path, chunk_rows) -> _ChunkPlan:
+    """Check the file can be read and find its encoding and separator from its start."""
     try:
         with open(path, "rb") as stream:
             head = stream.read(1 << 16)
@@ -160,67 +200,92 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
     if encoding == "cp1252":
         notes["the file is not valid UTF-8; it was read as Windows-1252"] = None
     separator = _sniff_separator(head.decode(encoding, errors="replace"))
-    progress_line = _Progress(count_data_lines(path), progress)
-    summary = StreamSummary()
+    return _ChunkPlan(path, encoding, separator, chunk_rows, notes)
+
+
+def _chunk_jobs(plan, reader):
+    """Yield one job per chunk, with its first spreadsheet row and the run ids it reuses.
+
+    Duplicate run ids are found across chunks here, in the parent process and in file
+    order, so a chunk analysed by a worker still names the row where an id was first
+    used; :class:`~molid.io.reading.RunIds` keeps about 24 bytes per id seen.
+    """
     seen = RunIds()
-    output = Path(output)
-    decimal_comma = separator in (";", "\t")
-    workers = _worker_count(workers)
+    first_row = 2  # the header is row 1
+    for raw in reader:
+        raw.columns = [str(column) for column in raw.columns]
+        first_use = first_uses(raw, seen, first_row)
+        yield (raw, plan.decimal_comma, first_row, first_use, str(plan.path))
+        first_row += len(raw)
+
+
+class _OrderedAppender:
+    """Append each chunk's CSV to the output, in file order, and add its counts to the summary."""
+
+    def __init__(self, summary: StreamSummary, notes: dict, progress_line: _Progress):
+        self.summary = summary
+        self.notes = notes
+        self.progress_line = progress_line
+        self.sink = None
+
+    def __call__(self, outcome) -> None:
+        text, runs, errors, n_errors, n_warnings, chunk_notes = outcome
+        if runs == 0:
+            return
+        summary = self.summary
+        if summary.runs and text:
+            text = text.split("\n", 1)[1]  # every chunk's CSV starts with the header
+        self.sink.write(text)
+        summary.runs += runs
+        summary.rows_with_errors += n_errors
+        summary.rows_with_warnings += n_warnings
+        summary.errors.extend(errors[: _MAX_LISTED - len(summary.errors)])
+        for note in chunk_notes:
+            self.notes.setdefault(note, None)
+        self.progress_line.update(summary.runs)
+
+
+def _write_chunks(plan, output, appender, workers, profile, library) -> None:
+    """Analyse every chunk and write the output atomically; a failure leaves no file behind."""
     pool = None
     try:
         with atomic_output(output, "w") as sink:
-            reader = pd.read_csv(path, sep=separator, dtype=str, keep_default_na=False,
-                                 skip_blank_lines=False, skipinitialspace=True,
-                                 encoding=encoding, chunksize=chunk_rows)
+            appender.sink = sink
+            reader = plan.reader()
             if workers > 1:
                 pool = _start_pool(workers, profile, library)
-            pending: deque = deque()
-
-            def collect(outcome):
-                text, runs, errors, n_errors, n_warnings, chunk_notes = outcome
-                if runs == 0:
-                    return
-                if summary.runs and text:
-                    text = text.split("\n", 1)[1]  # every chunk's CSV starts with the header
-                sink.write(text)
-                summary.runs += runs
-                summary.rows_with_errors += n_errors
-                summary.rows_with_warnings += n_warnings
-                summary.errors.extend(errors[: _MAX_LISTED - len(summary.errors)])
-                for note in chunk_notes:
-                    notes.setdefault(note, None)
-                progress_line.update(summary.runs)
-
-            first_row = 2
             try:
-                for raw in reader:
-                    raw.columns = [str(column) for column in raw.columns]
-                    first_use = first_uses(raw, seen, first_row)
-                    job = (raw, decimal_comma, first_row, first_use, str(path))
-                    first_row += len(raw)
-                    if pool is None:
-                        collect(_chunk_job(job, profile, library))
-                        continue
-                    pending.append(pool.submit(_chunk_job, job))
-                    while len(pending) > workers:  # bounded: a few chunks in flight at most
-                        collect(pending.popleft().result())
-                while pending:
-                    collect(pending.popleft().result())
+                _analyse_in_order(_chunk_jobs(plan, reader), pool, workers, appender, profile,
+                                  library)
             except pd.errors.EmptyDataError:
-                raise InputError(f"{path}: no header row found") from None
+                raise InputError(f"{plan.path}: no header row found") from None
             except pd.errors.ParserError as error:
-                raise InputError(f"{path}: cannot read it as CSV ({error})") from None
-            if summary.runs == 0:
-                raise InputError(f"{path}: the file has a header but no data rows")
+                raise InputError(f"{plan.path}: cannot read it as CSV ({error})") from None
+            if appender.summary.runs == 0:
+                raise InputError(f"{plan.path}: the file has a header but no data rows")
     finally:
         if pool is not None:
             pool.shutdown(wait=True, cancel_futures=True)
-    progress_line.update(summary.runs, final=True)
-    summary.notes = _merge_notes(notes)
-    summary.notes.append("replicates were not combined: a large file written straight to CSV "
-                         "gives one row per run")
-    summary.seconds = time.monotonic() - started
-    return summary
+
+
+def _analyse_in_order(jobs, pool, workers, collect, profile, library) -> None:
+    """Analyse the chunks, here or in the pool, and hand their outcomes to ``collect`` in order.
+
+    With a pool, at most ``workers`` chunks wait beyond the one being collected, which
+    bounds memory whatever the file's length; collecting the oldest first keeps the
+    output in file order.
+    """
+    if pool is None:
+        for job in jobs:
+            collect(_chunk_job(job, profile, library))
+        return
+    pending: deque = deque()
+    for job in jobs:
+        pending.append(pool.submit(_chunk_job, job))
+        while len(pending) > workers:
+            collect(pending.popleft().result())
+    while pending:
+        collect(pending.popleft().result())
 
 
 def _worker_count(requested) -> int:
@@ -255,7 +320,7 @@ def _start_pool(workers, profile, library):
 
 def _chunk_job(job, profile=None, library=None):
     """Validate, evaluate and rank one chunk; return its CSV text and what the summary needs."""
-    from molid.io.export import to_csv
+    from molid.io.run_csv import to_csv
 
     profile = profile if profile is not None else _WORKER_STATE["profile"]
     library = library if library is not None else _WORKER_STATE["library"]

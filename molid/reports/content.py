@@ -382,49 +382,91 @@ def _groups(result):
     return [(key, groups[key]) for key in order]
 
 
-def _inputs_table(result, positions, run_labels, notes=()) -> Table:
-    table = result.table
+def _input_names(table, positions) -> list:
+    """Pick the inputs the table shows: the fixed ones, air conditions when given, the wet flag."""
     names = list(_INPUT_COLUMNS)
     for extra in ("air_temperature", "air_pressure"):
         if table.given[extra][positions].any():
             names.append(extra)
     if table.wet[positions].any():
         names.append("wet")
-    methods = table.text["method"].to_numpy(dtype=object)[positions]
-    show_method = len({m for m in methods}) > 1
-    columns = ["run"] + (["method"] if show_method else [])
-    widths = [16.0] + ([22.0] if show_method else [])
-    display = {}
-    same_u = {}
-    typed = _typed_columns(table.raw)
+    return names
+
+
+def _input_display(table, names, positions):
+    """Give each shown input's header, width, display values and u, and whether u is constant.
+
+    Returns
+    -------
+    headers, widths : list
+        One per input, in ``names`` order.
+    display : dict
+        Input name to (values, u) in the file's units (not for the wet flag).
+    same_u : dict
+        Input name to True when every run has the same finite u (shown once, below the runs).
+    """
+    headers, widths, display, same_u = [], [], {}, {}
     for name in names:
         if name == "wet":
-            columns.append("wet")
+            headers.append("wet")
             widths.append(9.0)
             continue
         unit = table.units[name]
-        columns.append(f"{_SHORT[name]} [{_unit_text(unit)}]")
+        headers.append(f"{_SHORT[name]} [{_unit_text(unit)}]")
         widths.append(15.0 if name.startswith("mass") else 13.0)
         values = _to_display(table.values[name][positions], unit)
         u = np.asarray(table.uncertainties[name][positions], dtype=float) / unit.scale
         display[name] = (values, u)
         finite = u[np.isfinite(u)]
         same_u[name] = bool(len(finite) == len(u) and np.allclose(finite, finite[0], rtol=1e-9))
+    return headers, widths, display, same_u
+
+
+def _input_cells(table, position, k, names, display, same_u, typed) -> list:
+    """Give one run's input cells: as typed when the file has the digits, u beside when it varies."""
+    cells = []
+    for name in names:
+        if name == "wet":
+            cells.append("yes" if table.wet[position] else "no")
+            continue
+        values, u = display[name]
+        written = typed[name][position] if name in typed else ""
+        cell = written or format_number(values[k])
+        if not same_u[name] and np.isfinite(u[k]):
+            cell += f" ({u[k]:.2g})"
+        cells.append(cell)
+    return cells
+
+
+def _uncertainty_row(names, display, same_u, show_method) -> list:
+    """Give the row of standard uncertainties shared by all runs ('per run' where they differ)."""
+    row = ["u (std.)"] + ([""] if show_method else [])
+    for name in names:
+        if name == "wet":
+            row.append("")
+            continue
+        values, u = display[name]
+        if not np.isfinite(u).any():
+            row.append("–")
+        else:
+            row.append(f"{u[0]:.2g}" if same_u[name] else "per run")
+    return row + ["", ""]
+
+
+def _inputs_table(result, positions, run_labels, notes=()) -> Table:
+    table = result.table
+    names = _input_names(table, positions)
+    methods = table.text["method"].to_numpy(dtype=object)[positions]
+    show_method = len({m for m in methods}) > 1
+    headers, input_widths, display, same_u = _input_display(table, names, positions)
+    columns = ["run"] + (["method"] if show_method else []) + headers
     columns += ["gas mass [g]", "M (ideal gas) ± U [g/mol]"]
-    widths += [15.0, 27.0]
+    widths = [16.0] + ([22.0] if show_method else []) + input_widths + [15.0, 27.0]
+    typed = _typed_columns(table.raw)
     rows, styles = [], []
     for k, position in enumerate(positions):
         row = [run_labels[position]] + ([methods[k] or "?"] if show_method else [])
-        for name in names:
-            if name == "wet":
-                row.append("yes" if table.wet[position] else "no")
-                continue
-            values, u = display[name]
-            written = typed[name][position] if name in typed else ""
-            cell = written or format_number(values[k])
-            if not same_u[name] and np.isfinite(u[k]):
-                cell += f" ({u[k]:.2g})"
-            row.append(cell)
+        row += _input_cells(table, position, k, names, display, same_u, typed)
         if result.errors[position]:
             row += ["–", "error (see below)"]
             styles.append([None] * (len(row) - 1) + ["error"])
@@ -436,17 +478,7 @@ def _inputs_table(result, positions, run_labels, notes=()) -> Table:
             styles.append(None)
         rows.append(row)
     if any(same_u[name] for name in display):
-        row = ["u (std.)"] + ([""] if show_method else [])
-        for name in names:
-            if name == "wet":
-                row.append("")
-                continue
-            values, u = display[name]
-            if not np.isfinite(u).any():
-                row.append("–")
-            else:
-                row.append(f"{u[0]:.2g}" if same_u[name] else "per run")
-        row += ["", ""]
+        row = _uncertainty_row(names, display, same_u, show_method)
         rows.append(row)
         styles.append(["muted"] * len(row))
     note = ("Readings as entered, in the file's units; u (std.) is the standard uncertainty "
@@ -535,7 +567,7 @@ def _nearby(candidates, value, expanded, label_name, limit=6):
 
 
 def _plot_block(value, expanded, nearby, label_name) -> Plot:
-    from molid.reports import figures
+    import molid.reports.figures as figures
 
     points = [(item["name"], item["molar_mass"], item["measured"]["value"],
                COVERAGE_FACTOR * item["measured"]["u"], item["verdict"],
@@ -552,19 +584,9 @@ def _plot_block(value, expanded, nearby, label_name) -> Plot:
                 "measurement gives if the gas is that candidate (dot, ±U).", spec=spec)
 
 
-def _page_for(result, key, positions, run_labels, columns, top, library_hazards) -> Page:
-    table = result.table
-    text = table.text
-    ranking = result.ranking
+def _page_fields(table, key, positions, runs, columns, methods) -> Fields:
+    """Give the page header: sample, runs, operator and date from the file, method, source rows."""
     kind, ident = key
-    ok_positions = [p for p in positions if not result.errors[p]]
-    runs = [run_labels[p] for p in positions]
-    methods = [m for m in text["method"].to_numpy(dtype=object)[positions] if m]
-    blocks = []
-    if kind == "sample":
-        title = f"Sample {ident}"
-    else:
-        title = f"Run {runs[0]}"
     fields = []
     if kind == "sample":
         fields.append(("Sample", ident))
@@ -580,12 +602,27 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
     name = _file_name(table.source)
     fields.append(("Source", f"{name}, row {rows}" if len(positions) == 1
                    else f"{name}, rows {rows}"))
-    blocks.append(Fields(fields))
+    return Fields(fields)
 
-    # the result: the sample's combined value, or the single run's
-    candidates, extras, value, u = [], {}, None, None
+
+def _page_result(result, key, ok_positions):
+    """Find the page's result: the sample's combined value, or its first good run's.
+
+    Returns
+    -------
+    value, u : float or None
+        Molar mass and its standard uncertainty [g/mol]; None when no run could be analysed.
+    origin : str or None
+        Where the value comes from, in words.
+    candidates : list
+        The ranked candidates of that value (empty without a ranking).
+    extras : dict
+        The label check and the separation notes of that value.
+    """
+    kind, ident = key
+    ranking = result.ranking
+    candidates, extras, value, u, origin = [], {}, None, None, None
     frame = result.samples.set_index("sample") if len(result.samples) else None
-    lines = []
     if kind == "sample" and frame is not None and ident in frame.index and ok_positions:
         row = frame.loc[ident]
         value, u = float(row["value"]) * _G, float(row["u"]) * _G
@@ -603,26 +640,75 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
             candidates = ranking.run_candidates(position)
             extras = ranking.run_extras(position)
         origin = "from 1 run"
-    if value is not None:
-        expanded = COVERAGE_FACTOR * u
-        decimals = _decimals(expanded)
-        lines.append(f"Molar mass (ideal gas): {format_with_uncertainty(value, expanded)} g/mol"
-                     f"  (U, k = 2, about 95 %)")
-        shown, half = round(value, decimals), round(expanded, decimals)
-        lines.append(f"Interval {shown - half:.{decimals}f} to {shown + half:.{decimals}f}"
-                     f" g/mol; standard uncertainty u = {u:.2g} g/mol; {origin}.")
-        if candidates:
-            best = candidates[0]
-            measured = best["measured"]
-            lines.append(
-                f"Best candidate: {best['name']} ({best['formula'] or '–'}), {best['verdict']}, "
-                f"z = {_signed(best['z'])}; if it is {best['name']}, the real-gas molar mass is "
-                f"{format_with_uncertainty(measured['value'], COVERAGE_FACTOR * measured['u'])}"
-                f" g/mol (M = {best['molar_mass']:.3f} g/mol)."
-            )
-    else:
-        lines.append("No result: no run of this page could be analysed (see the errors below).")
-    blocks.append(Highlight(lines))
+    return value, u, origin, candidates, extras
+
+
+def _result_lines(value, u, origin, candidates) -> list:
+    """Write the highlighted result: M ± U, its interval and u, and the best candidate."""
+    if value is None:
+        return ["No result: no run of this page could be analysed (see the errors below)."]
+    expanded = COVERAGE_FACTOR * u
+    decimals = _decimals(expanded)
+    lines = [f"Molar mass (ideal gas): {format_with_uncertainty(value, expanded)} g/mol"
+             f"  (U, k = 2, about 95 %)"]
+    shown, half = round(value, decimals), round(expanded, decimals)
+    lines.append(f"Interval {shown - half:.{decimals}f} to {shown + half:.{decimals}f}"
+                 f" g/mol; standard uncertainty u = {u:.2g} g/mol; {origin}.")
+    if candidates:
+        best = candidates[0]
+        measured = best["measured"]
+        lines.append(
+            f"Best candidate: {best['name']} ({best['formula'] or '–'}), {best['verdict']}, "
+            f"z = {_signed(best['z'])}; if it is {best['name']}, the real-gas molar mass is "
+            f"{format_with_uncertainty(measured['value'], COVERAGE_FACTOR * measured['u'])}"
+            f" g/mol (M = {best['molar_mass']:.3f} g/mol)."
+        )
+    return lines
+
+
+def _findings(label, extras, candidates, top) -> list:
+    """Collect what the measurement can and cannot tell: label check, separation, candidate notes."""
+    findings = []
+    if label:
+        findings.append(label_sentence(label))
+    findings += [note[0].upper() + note[1:] for note in extras.get("distinguish", []) or []]
+    for item in candidates[:top]:
+        if item.get("note") and item["verdict"] != "excluded":
+            findings.append(f"{item['name']}: {item['note']}.")
+    return findings
+
+
+def _message_blocks(result, key, positions, run_labels, columns) -> list:
+    """Give the page's errors, warnings and the notes the file itself carries, as bullet lists."""
+    kind, ident = key
+    warnings = []
+    if kind == "sample":
+        warnings += [item[0].upper() + item[1:] for item in result.sample_warnings.get(ident, [])]
+    for position in positions:
+        for message in result.warnings[position]:
+            warnings.append(f"{run_labels[position]}: {message}")
+    errors = [f"{run_labels[p]}: {message}" for p in positions for message in result.errors[p]]
+    blocks = []
+    if errors:
+        blocks.append(Bullets("Errors (these runs were not analysed)", errors, "error"))
+    if warnings:
+        blocks.append(Bullets("Warnings", warnings, "warning"))
+    free_notes = [f"{run_labels[p]}: {columns['notes'][p]}" for p in positions
+                  if columns["notes"] is not None and columns["notes"][p]]
+    if free_notes:
+        blocks.append(Bullets("Notes in the file", free_notes, "note"))
+    return blocks
+
+
+def _page_for(result, key, positions, run_labels, columns, top, library_hazards) -> Page:
+    kind, ident = key
+    ok_positions = [p for p in positions if not result.errors[p]]
+    runs = [run_labels[p] for p in positions]
+    methods = [m for m in result.table.text["method"].to_numpy(dtype=object)[positions] if m]
+    title = f"Sample {ident}" if kind == "sample" else f"Run {runs[0]}"
+    blocks = [_page_fields(result.table, key, positions, runs, columns, methods)]
+    value, u, origin, candidates, extras = _page_result(result, key, ok_positions)
+    blocks.append(Highlight(_result_lines(value, u, origin, candidates)))
     blocks.append(_inputs_table(result, positions, run_labels, result.notes))
 
     label = extras.get("label")
@@ -634,32 +720,10 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
                                           label["name"] if label else None)))
         if candidates:
             blocks.append(_candidate_table(candidates, top))
-
-    findings = []
-    if label:
-        findings.append(label_sentence(label))
-    findings += [note[0].upper() + note[1:] for note in extras.get("distinguish", []) or []]
-    for item in candidates[:top]:
-        if item.get("note") and item["verdict"] != "excluded":
-            findings.append(f"{item['name']}: {item['note']}.")
+    findings = _findings(label, extras, candidates, top)
     if findings:
         blocks.append(Bullets("What the measurement can and cannot tell", findings, "note"))
-
-    warnings = []
-    if kind == "sample":
-        warnings += [item[0].upper() + item[1:] for item in result.sample_warnings.get(ident, [])]
-    for position in positions:
-        for message in result.warnings[position]:
-            warnings.append(f"{run_labels[position]}: {message}")
-    errors = [f"{run_labels[p]}: {message}" for p in positions for message in result.errors[p]]
-    if errors:
-        blocks.append(Bullets("Errors (these runs were not analysed)", errors, "error"))
-    if warnings:
-        blocks.append(Bullets("Warnings", warnings, "warning"))
-    free_notes = [f"{run_labels[p]}: {columns['notes'][p]}" for p in positions
-                  if columns["notes"] is not None and columns["notes"][p]]
-    if free_notes:
-        blocks.append(Bullets("Notes in the file", free_notes, "note"))
+    blocks += _message_blocks(result, key, positions, run_labels, columns)
     if candidates:
         blocks.append(_safety_block(_safety_candidates(candidates[:top]), library_hazards,
                                     methods))

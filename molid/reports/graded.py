@@ -113,12 +113,9 @@ def _grade_table(frame, typed) -> Table:
     )
 
 
-def _student_page(grading, key, positions, run_labels, columns, hazards, top, typed) -> Page:
-    frame = grading.grades.iloc[positions]
-    result = grading.identification
+def _student_fields(frame, key, positions, columns) -> Fields:
+    """Give the sheet header: student, section, runs, unknown, method and date."""
     kind, ident = key
-    first = frame.iloc[0]
-    title = f"Student: {ident}" if kind == "student" else f"Run {first['run']}"
     fields = [("Student", ident if kind == "student" else "–")]
     sections = ", ".join(dict.fromkeys(s for s in frame["section"] if s))
     if sections:
@@ -130,8 +127,11 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top, ty
     date = _joined(columns["date"], positions)
     if date:
         fields.append(("Date", date))
-    blocks = [Fields(fields)]
+    return Fields(fields)
 
+
+def _grade_lines(frame, typed) -> list:
+    """Write the highlighted grade: points, then per run the truth, the error and the interval."""
     lines = []
     graded = frame[frame["error"].isna()]
     if len(graded):
@@ -157,9 +157,11 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top, ty
                 f"for {row.expected_name}'s real-gas behaviour "
                 f"{format_with_uncertainty(row.true_gas_molar_mass, row.true_gas_U)} g/mol, "
                 f"which {inside} the true value.")
-    blocks.append(Highlight(lines))
-    blocks.append(_grade_table(frame, typed))
+    return lines
 
+
+def _diagnosis_items(frame) -> list:
+    """Say per graded run which mistake explains the result, or that none was found."""
     diagnosis = []
     for row in frame.itertuples(index=False):
         prefix = f"{row.run}: " if len(frame) > 1 else ""
@@ -171,33 +173,32 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top, ty
                                                                       else "."))
         else:
             diagnosis.append(prefix + "No mistake found: your result follows from your readings.")
-    if diagnosis:
-        blocks.append(Bullets("Diagnosis", diagnosis, "note"))
+    return diagnosis
 
-    table_positions = [_table_position(result, row) for row in frame.itertuples(index=False)]
-    table_positions = [p for p in table_positions if p is not None]
+
+def _readings_blocks(grading, frame, table_positions, run_labels) -> list:
+    """Give the readings table and, for the first analysed run, its budget beside the axis plot."""
+    result = grading.identification
     notes = list(result.notes) + list(grading.notes)
-    if table_positions:
-        blocks.append(_inputs_table(result, table_positions, run_labels, notes))
-        ok = [p for p in table_positions if not result.errors[p]]
-        if ok and result.ranking is not None:
-            position = ok[0]
-            value, u = result.molar_mass[position] * _G, result.u[position] * _G
-            candidates = result.ranking.run_candidates(position)
-            label = first["expected_name"] if first["expected_name"] else None
-            budget = _budget_rows(result, [position])
-            nearby = _nearby(candidates, value, COVERAGE_FACTOR * u, label)
-            left = _budget_table(budget, 1)
-            left.title = "Uncertainty budget" + (f" ({run_labels[position]})"
-                                                  if len(ok) > 1 else "")
-            blocks.append(Columns(left, _plot_block(value, COVERAGE_FACTOR * u, nearby, label)))
-    errors = [f"{row.run}: {row.error}" for row in frame.itertuples(index=False) if row.error]
-    if errors:
-        blocks.append(Bullets("Not graded", errors, "error"))
-    warnings = [f"{run_labels[p]}: {message}" for p in table_positions
-                for message in result.warnings[p]]
-    if warnings:
-        blocks.append(Bullets("Warnings", warnings, "warning"))
+    blocks = [_inputs_table(result, table_positions, run_labels, notes)]
+    ok = [p for p in table_positions if not result.errors[p]]
+    if ok and result.ranking is not None:
+        position = ok[0]
+        value, u = result.molar_mass[position] * _G, result.u[position] * _G
+        candidates = result.ranking.run_candidates(position)
+        first = frame.iloc[0]
+        label = first["expected_name"] if first["expected_name"] else None
+        budget = _budget_rows(result, [position])
+        nearby = _nearby(candidates, value, COVERAGE_FACTOR * u, label)
+        left = _budget_table(budget, 1)
+        left.title = "Uncertainty budget" + (f" ({run_labels[position]})"
+                                              if len(ok) > 1 else "")
+        blocks.append(Columns(left, _plot_block(value, COVERAGE_FACTOR * u, nearby, label)))
+    return blocks
+
+
+def _unknown_safety(frame, hazards) -> Bullets:
+    """List the hazard classes of the sheet's true gases and the cautions they call for."""
     gases = [name for name in dict.fromkeys(frame["expected_name"]) if name]
     items = []
     cautions = []
@@ -207,8 +208,33 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top, ty
         cautions += [c for c in hazard_cautions(classes) if c not in cautions]
     if cautions:
         items.append("Precautions: " + "; ".join(cautions) + ".")
-    blocks.append(Bullets("Safety: the unknown's hazard classes (GHS)", items, "safety",
-                          SAFETY_FOOTNOTE))
+    return Bullets("Safety: the unknown's hazard classes (GHS)", items, "safety",
+                   SAFETY_FOOTNOTE)
+
+
+def _student_page(grading, key, positions, run_labels, columns, hazards, top, typed) -> Page:
+    frame = grading.grades.iloc[positions]
+    result = grading.identification
+    kind, ident = key
+    title = f"Student: {ident}" if kind == "student" else f"Run {frame.iloc[0]['run']}"
+    blocks = [_student_fields(frame, key, positions, columns),
+              Highlight(_grade_lines(frame, typed)),
+              _grade_table(frame, typed)]
+    diagnosis = _diagnosis_items(frame)
+    if diagnosis:
+        blocks.append(Bullets("Diagnosis", diagnosis, "note"))
+    table_positions = [_table_position(result, row) for row in frame.itertuples(index=False)]
+    table_positions = [p for p in table_positions if p is not None]
+    if table_positions:
+        blocks += _readings_blocks(grading, frame, table_positions, run_labels)
+    errors = [f"{row.run}: {row.error}" for row in frame.itertuples(index=False) if row.error]
+    if errors:
+        blocks.append(Bullets("Not graded", errors, "error"))
+    warnings = [f"{run_labels[p]}: {message}" for p in table_positions
+                for message in result.warnings[p]]
+    if warnings:
+        blocks.append(Bullets("Warnings", warnings, "warning"))
+    blocks.append(_unknown_safety(frame, hazards))
     blocks.append(Signature(("Graded by",)))
     return Page(title, "", blocks, key=str(ident))
 

@@ -12,6 +12,7 @@ import functools
 import io
 import logging
 import os
+from dataclasses import dataclass
 from pathlib import Path
 
 from molid.reports.content import Bullets, Columns, Fields, Highlight, Plot, Signature, Table
@@ -147,7 +148,7 @@ class _FigureSource:
     """
 
     def __init__(self, pages):
-        from molid.reports import figures
+        import molid.reports.figures as figures
 
         self.figures = figures
         self.pool = None
@@ -361,65 +362,94 @@ def _row_heights(document, cells, widths, line_height, padding):
     return wrapped, 0.8 + line_height * max((len(lines) for lines in wrapped), default=1)
 
 
+@dataclass(frozen=True)
+class _GridLayout:
+    """Where a table's columns go: left edge and width [mm], column widths, alignment, font."""
+
+    x: float
+    width: float
+    widths: list
+    align: str
+    size: float
+    line_height: float
+    padding: float = 0.6
+
+
+def _cell_lines(document, layout, lines, left, top, column_width, alignment, height):
+    """Draw one cell's wrapped lines from its top-left corner, inside the padding."""
+    document.set_xy(left + layout.padding, top + 0.4)
+    for line in lines:
+        document.set_x(left + layout.padding)
+        document.cell(column_width - 2 * layout.padding, height, line,
+                      align="R" if alignment == "R" else "L", new_x="LEFT", new_y="NEXT")
+
+
+def _grid_header(document, layout, header, header_height):
+    """Draw the header row (grey band, bold) at the current position."""
+    top = document.get_y()
+    document.set_font(_FONT, "B", layout.size - 0.6)
+    document.set_fill_color(230, 230, 230)
+    document.rect(layout.x, top, layout.width, header_height, style="F")
+    left = layout.x
+    for column_width, lines, alignment in zip(layout.widths, header, layout.align, strict=False):
+        _cell_lines(document, layout, lines, left, top, column_width, alignment,
+                    layout.line_height - 0.4)
+        left += column_width
+    document.set_y(top + header_height)
+
+
+def _share_bar(document, layout, cell, left, top, column_width):
+    """Draw a percentage cell's bar behind its number (a bar chart inside the table)."""
+    try:
+        share = max(0.0, min(float(cell), 100.0))
+    except ValueError:
+        share = 0.0
+    bar = share / 100.0 * (column_width - 9.5)
+    if bar > 0.05:
+        document.set_fill_color(74, 119, 180)
+        document.rect(left + layout.padding, top + 0.8, bar, layout.line_height - 1.0, style="F")
+
+
+def _grid_row(document, layout, cells, wrapped, styles, bars):
+    """Draw one body row's cells at the current height, each in its style's colour."""
+    top = document.get_y()
+    left = layout.x
+    for column, (column_width, lines, alignment) in enumerate(
+            zip(layout.widths, wrapped, layout.align, strict=False)):
+        style = styles[column] if styles else None
+        if column == bars:
+            _share_bar(document, layout, cells[column], left, top, column_width)
+        colour = _STYLE_COLOURS.get(style)
+        document.set_font(_FONT, "B" if colour and style != "muted" else "", layout.size)
+        if colour:
+            document.set_text_color(*colour)
+        _cell_lines(document, layout, lines, left, top, column_width, alignment,
+                    layout.line_height)
+        document.set_text_color(0, 0, 0)
+        left += column_width
+    return top
+
+
 def _grid(document, block, x, width, size=7.0, line_height=3.3):
     """Draw a table's header and rows at x; long cells wrap, a full page repeats the header."""
     scale = width / sum(block.widths)
-    widths = [w * scale for w in block.widths]
-    align = block.align or "L" * len(block.columns)
-    padding = 0.6
+    layout = _GridLayout(x, width, [w * scale for w in block.widths],
+                         block.align or "L" * len(block.columns), size, line_height)
     document.set_font(_FONT, "B", size - 0.6)
-    header, header_height = _row_heights(document, block.columns, widths, line_height - 0.4,
-                                         padding)
-
-    def draw_header():
-        top = document.get_y()
-        document.set_font(_FONT, "B", size - 0.6)
-        document.set_fill_color(230, 230, 230)
-        document.rect(x, top, width, header_height, style="F")
-        left = x
-        for w, lines, a in zip(widths, header, align, strict=False):
-            document.set_xy(left + padding, top + 0.4)
-            for line in lines:
-                document.set_x(left + padding)
-                document.cell(w - 2 * padding, line_height - 0.4, line,
-                              align="R" if a == "R" else "L", new_x="LEFT", new_y="NEXT")
-            left += w
-        document.set_y(top + header_height)
-
-    draw_header()
+    header, header_height = _row_heights(document, block.columns, layout.widths,
+                                         line_height - 0.4, layout.padding)
+    _grid_header(document, layout, header, header_height)
     document.set_draw_color(190, 190, 190)
     document.set_line_width(0.15)
     for index, cells in enumerate(block.rows):
         styles = block.styles[index] if block.styles else None
         document.set_font(_FONT, "", size)
-        wrapped, height = _row_heights(document, cells, widths, line_height, padding)
+        wrapped, height = _row_heights(document, cells, layout.widths, line_height,
+                                       layout.padding)
         if _room(document) < height:
             document.add_page()
-            draw_header()
-        top = document.get_y()
-        left = x
-        for column, (w, lines, a) in enumerate(zip(widths, wrapped, align, strict=False)):
-            style = styles[column] if styles else None
-            if column == block.bars:
-                try:
-                    share = max(0.0, min(float(cells[column]), 100.0))
-                except ValueError:
-                    share = 0.0
-                bar = share / 100.0 * (w - 9.5)
-                if bar > 0.05:
-                    document.set_fill_color(74, 119, 180)
-                    document.rect(left + padding, top + 0.8, bar, line_height - 1.0, style="F")
-            colour = _STYLE_COLOURS.get(style)
-            document.set_font(_FONT, "B" if colour and style != "muted" else "", size)
-            if colour:
-                document.set_text_color(*colour)
-            document.set_xy(left + padding, top + 0.4)
-            for line in lines:
-                document.set_x(left + padding)
-                document.cell(w - 2 * padding, line_height, line, align="R" if a == "R" else "L",
-                              new_x="LEFT", new_y="NEXT")
-            document.set_text_color(0, 0, 0)
-            left += w
+            _grid_header(document, layout, header, header_height)
+        top = _grid_row(document, layout, cells, wrapped, styles, block.bars)
         document.line(x, top + height, x + width, top + height)
         document.set_y(top + height)
     document.set_font(_FONT, "", size)

@@ -74,7 +74,7 @@ def grading_document(grading: Grading, top: int | None = None) -> dict:
         The ``molid identify`` document; each result gains ``"grade"`` and the top
         level gains ``"summary"`` and ``"rubric"``.
     """
-    from molid.io.export import to_document
+    from molid.io.json_document import to_document
 
     document = to_document(grading.identification, top)
     for entry, (_, row) in zip(document["results"], grading.grades.iterrows(), strict=True):
@@ -144,7 +144,7 @@ def _spread_text(value) -> str:
 
 def _run_lines(frame: pd.DataFrame) -> list:
     """Lay out one line per run: result, error, rank, points and diagnosis."""
-    from molid.io.export import format_value
+    from molid.io.terminal import format_value
 
     lines = [f"{'run':<10} {'student':<20} {'sample':<8} {'true gas':<16} "
              f"{'recomputed M ± U':<18} {'reported':>9} {'error %':>8} {'rank':>4} "

@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from molid.cli import main
-from molid.io.export import format_value
+from molid.io.terminal import format_value
 from molid.pipeline.identify import identify
 
 pypdf = pytest.importorskip("pypdf")
@@ -229,7 +229,8 @@ def test_html_has_a_section_and_a_plot_per_sample(tmp_path):
     text = out.read_text(encoding="utf-8")
     assert text.count('<section class="page"') == 7
     assert text.count('src="data:image/svg+xml;base64,') == 7
-    from molid.io.export import format_value, to_document
+    from molid.io.json_document import to_document
+    from molid.io.terminal import format_value
     from molid.pipeline.identify import identify
 
     first = to_document(identify(DEMO, profile=PROFILE))["samples"][0]["molar_mass"]

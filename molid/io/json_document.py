@@ -1,0 +1,139 @@
+"""The JSON document of an identification (``molid identify --json``).
+
+Numbers leave the library here, converted from SI to g/mol. The JSON keys are a
+contract other programs rely on; see the README.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+
+from molid import __version__
+from molid.uncertainty.propagation import COVERAGE_FACTOR
+
+__all__ = ["molar_mass_block", "to_document", "to_json"]
+
+_G = 1e3  # kg/mol → g/mol
+
+
+def _float(value):
+    """Return a JSON-safe float (None for NaN/inf)."""
+    if value is None:
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def molar_mass_block(value, u, model="ideal gas"):
+    """Build the JSON ``molar_mass`` object from a value and its u [kg/mol]."""
+    if value is None or not np.isfinite(value):
+        return None
+    expanded = COVERAGE_FACTOR * u
+    return {
+        "value": _float(value * _G),
+        "u": _float(u * _G),
+        "U": _float(expanded * _G),
+        "k": int(COVERAGE_FACTOR),
+        "low": _float((value - expanded) * _G),
+        "high": _float((value + expanded) * _G),
+        "unit": "g/mol",
+        "model": model,
+    }
+
+
+def _budget_list(result, index):
+    rows = []
+    for name, shares in result.budget.items():
+        share = shares[index]
+        if result.propagation.uncertainties[name][index] > 0 and np.isfinite(share):
+            contribution = result.propagation.contributions[name][index]
+            rows.append({
+                "input": name,
+                "percent": _float(share),
+                "u_contribution": _float(abs(contribution) * _G),
+            })
+    rows.sort(key=lambda row: -row["percent"])
+    return rows
+
+
+def _run_entry(result, index, top) -> dict:
+    """Build one run's entry of ``results``: its cells, M ± U, budget and candidates."""
+    table = result.table
+    ranking = result.ranking
+    text = table.text
+    error = "; ".join(result.errors[index]) or None
+    entry = {
+        "run": text["run"].iat[index],
+        "row": int(table.row_numbers[index]),
+        "sample": text["sample"].iat[index],
+        "method": text["method"].iat[index],
+        "error": error,
+        "warnings": list(result.warnings[index]),
+        "molar_mass": None if error else molar_mass_block(result.molar_mass[index],
+                                                           result.u[index]),
+        "budget": [] if error else _budget_list(result, index),
+        "candidates": [],
+    }
+    if ranking is not None and not error:
+        entry["candidates"] = ranking.run_candidates(index, top)
+        entry.update(ranking.run_extras(index))
+    if not error:
+        extras = result.propagation.extras
+        entry["gas_mass_g"] = _float(extras["gas_mass"][index] * 1e3)
+        entry["air_density_kg_m3"] = _float(extras["air_density"][index])
+    return entry
+
+
+def _sample_entries(result, top) -> list:
+    """Build the ``samples`` list: each sample's combined M ± U, replicate statistics, candidates."""
+    ranking = result.ranking
+    samples = []
+    frame = result.samples.set_index("sample") if len(result.samples) else None
+    for name, members in result.sample_runs.items():
+        entry = {"sample": name, "runs": list(members), "molar_mass": None,
+                 "warnings": list(result.sample_warnings.get(name, [])), "candidates": []}
+        if frame is not None and name in frame.index:
+            row = frame.loc[name]
+            entry["molar_mass"] = molar_mass_block(row["value"], row["u"])
+            entry["replicates"] = {
+                "n": int(row["n"]),
+                "chi_square": _float(row["chi_square"]),
+                "birge_ratio": _float(row["birge_ratio"]),
+                "p_value": _float(row["p_value"]),
+                "widened": bool(row["widened"]),
+                "u_independent": _float(row["u_independent"] * _G),
+                "u_shared": _float(row["u_shared"] * _G),
+            }
+            if ranking is not None:
+                entry["candidates"] = ranking.sample_candidates(name, top)
+                entry.update(ranking.sample_extras(name))
+        samples.append(entry)
+    return samples
+
+
+def to_document(result, top: int | None = None) -> dict:
+    """Build the JSON document of an identification, as Python objects.
+
+    Parameters
+    ----------
+    result : Identification
+        From :func:`molid.pipeline.identify.identify`.
+    top : int, optional
+        Limit each candidate list to this many (all candidates when None).
+
+    Returns
+    -------
+    dict
+        ``{"molid": version, "notes": [...], "results": [...], "samples": [...]}``.
+    """
+    runs = [_run_entry(result, index, top) for index in range(len(result.table))]
+    samples = _sample_entries(result, top)
+    return {"molid": __version__, "notes": list(result.notes), "results": runs, "samples": samples}
+
+
+def to_json(result, top: int | None = None) -> str:
+    """Return the JSON document as text (deterministic: same input, same bytes)."""
+    return json.dumps(to_document(result, top), indent=2, ensure_ascii=False, allow_nan=False) + "\n"

@@ -1,0 +1,133 @@
+"""The plain-text report of an identification, for a terminal (``molid identify``).
+
+A line per run with its two best candidates, then each sample with its ranked
+candidates, label check and notes, then the errors, warnings and file notes.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from molid.io.json_document import to_document
+from molid.uncertainty.propagation import COVERAGE_FACTOR
+
+__all__ = ["format_value", "to_table"]
+
+_G = 1e3  # kg/mol → g/mol
+
+
+def format_value(value, expanded, unit=""):
+    """Round a value to the precision of its expanded uncertainty (two significant digits).
+
+    Examples
+    --------
+    >>> format_value(44.0123456, 0.0456)
+    '44.012 ± 0.046'
+    """
+    if value is None or not np.isfinite(value):
+        return "-"
+    if not np.isfinite(expanded) or expanded <= 0:
+        return f"{value:.6g}{unit}"
+    decimals = max(0, 1 - int(math.floor(math.log10(expanded))))
+    return f"{value:.{decimals}f} ± {expanded:.{decimals}f}{unit}"
+
+
+def _cut(text, width):
+    text = "" if text is None else str(text)
+    return text if len(text) <= width else text[: width - 1] + "…"
+
+
+def _label_text(label) -> str:
+    """One line on whether the ``expected`` label agrees with the result."""
+    if label["verdict"] == "not-in-library":
+        return f"'{label['expected']}' is not in the candidate library, so it was not checked"
+    z = f", z = {label['z']:+.2f}" if label.get("z") is not None else ""
+    meaning = {
+        "consistent": "the result agrees with the label",
+        "marginal": "the result is at the edge of agreeing with the label",
+        "excluded": "the result does NOT agree with the label",
+        "condenses": "the labelled substance would be liquid at these conditions",
+    }[label["verdict"]]
+    return f"'{label['expected']}' ({label['name']}): {label['verdict']} (rank {label['rank']}{z}): {meaning}"
+
+
+def _run_lines(result, top) -> list:
+    """Give the header and a line per run: ids, method, M ± U and the two best candidates."""
+    table = result.table
+    header = (f"{'run':<12} {'sample':<10} {'method':<15} {'M ideal gas ± U (k=2)':<26} "
+              "best two candidates (M·Z of each)")
+    lines = [header, "-" * len(header)]
+    for index in range(len(table)):
+        run = _cut(table.text["run"].iat[index] or f"(row {table.row_numbers[index]})", 12)
+        sample = _cut(table.text["sample"].iat[index] or "", 10)
+        method = _cut(table.text["method"].iat[index] or "?", 15)
+        if result.errors[index]:
+            lines.append(f"{run:<12} {sample:<10} {method:<15} {'error':<26} see below")
+            continue
+        value = format_value(result.molar_mass[index] * _G, result.U[index] * _G)
+        best = ""
+        if result.ranking is not None:
+            # The run line names the two best; samples below list the top N in full.
+            items = result.ranking.run_candidates(index, min(top, 2))
+            best = "; ".join(f"{item['name']} {item['verdict']} (z {item['z']:+.1f})"
+                             if item["z"] is not None else f"{item['name']} {item['verdict']}"
+                             for item in items)
+        lines.append(f"{run:<12} {sample:<10} {method:<15} {value:<26} {best}")
+    return lines
+
+
+def _sample_lines(entry, top) -> list:
+    """Give one sample's lines: combined M ± U, ranked candidates, label check, notes, warnings."""
+    block = entry["molar_mass"]
+    value = format_value(block["value"], block["U"]) + " g/mol" if block else "no result"
+    extra = ""
+    if entry.get("replicates"):
+        rep = entry["replicates"]
+        extra = f", {rep['n']} run(s)"
+        if rep["birge_ratio"] is not None:
+            extra += f", Birge ratio {rep['birge_ratio']:.2f}"
+    lines = [f"{entry['sample']}: ideal gas {value} (k=2){extra}"]
+    if entry["candidates"]:
+        lines.append(f"    {'rank':>4}  {'candidate':<24} {'M/(g/mol)':>10}  "
+                     f"{'if it is this gas: M ± U':<24} {'z':>8}  verdict")
+    for item in entry["candidates"][:top]:
+        z = f"{item['z']:+8.2f}" if item["z"] is not None else f"{'-':>8}"
+        u_item = item["measured"]["u"]
+        measured = format_value(item["measured"]["value"],
+                                COVERAGE_FACTOR * u_item if u_item is not None else np.nan)
+        lines.append(f"    {item['rank']:>4}  {_cut(item['name'], 24):<24} "
+                     f"{item['molar_mass']:>10.3f}  {measured:<24} {z}  {item['verdict']}")
+    label = entry.get("label")
+    if label:
+        lines.append(f"    label: {_label_text(label)}")
+    for note in entry.get("distinguish", []) or []:
+        lines.append(f"    note: {note}")
+    for warning in entry["warnings"]:
+        lines.append(f"    warning: {warning}")
+    return lines
+
+
+def _section(title, body) -> list:
+    """Give a titled section (blank line, title, underline), or nothing when it has no lines."""
+    if not body:
+        return []
+    return ["", title, "-" * len(title), *body]
+
+
+def to_table(result, top: int = 5) -> str:
+    """Format a plain-text report for a terminal."""
+    table = result.table
+    lines = _run_lines(result, top)
+    if result.sample_runs:  # the JSON document combines the replicates; build it only then
+        lines += _section("Samples (replicates combined)", [
+            line for entry in to_document(result, top)["samples"]
+            for line in _sample_lines(entry, top)])
+    lines += _section("Errors (these rows were not analysed)",
+                      [message for index in range(len(table)) for message in result.errors[index]])
+    lines += _section("Warnings", [
+        f"row {table.row_numbers[index]} ({table.text['run'].iat[index]}): {message}"
+        for index in range(len(table)) for message in result.warnings[index]])
+    lines += _section("Notes", [f"- {note}" for note in result.notes])
+    return "\n".join(lines) + "\n"
