@@ -317,39 +317,8 @@ def diagnose(values, uncertainties, static, reported, u_reported, *, arithmetic_
     runs = len(reported)
     usable = np.ones(runs, dtype=bool) if usable is None else np.asarray(usable, dtype=bool)
     variants = mistake_variants()
-    count = len(variants)
-    tiled_values = {name: np.tile(np.asarray(item, dtype=float), count)
-                    for name, item in values.items()}
-    tiled_u = {name: np.tile(np.asarray(item, dtype=float), count)
-               for name, item in uncertainties.items()}
-    method_code = np.asarray(static["method_code"])
-    # the student computes an air density only where the method adds displaced air
-    displaces = select_by_method(method_code, lambda method: float(
-        method.gas_mass_without_displaced_air is not None)) != 0
-    tiled_values["student_air_density"] = np.zeros(runs * count)
-    tiled_u["student_air_density"] = np.tile(np.where(displaces, air_density_tolerance, 0.0),
-                                             count)
-    tiled_values["student_arithmetic"] = np.zeros(runs * count)
-    tiled_u["student_arithmetic"] = np.full(runs * count, arithmetic_tolerance)
-    tiled_static = {name: np.tile(np.asarray(item), count) for name, item in static.items()}
-    for name in ("temperature_offset", "volume_factor", "pressure_factor", "gas_constant_factor",
-                 "mass_mode"):
-        tiled_static[name] = np.repeat(np.array([getattr(v, name) for v in variants]), runs)
-    # rows that cannot be evaluated get harmless stand-ins, so the arrays stay finite
-    safe = np.tile(usable, count)
-    for name in tiled_values:
-        tiled_values[name] = np.where(safe, tiled_values[name], 1.0)
-    tiled_values["air_density_formula"] = np.where(safe, tiled_values["air_density_formula"], 0.0)
-    tiled_values["water_vapour"] = np.where(safe, tiled_values["water_vapour"], 0.0)
-    tiled_values["student_air_density"] = np.zeros(runs * count)
-    tiled_values["student_arithmetic"] = np.zeros(runs * count)
-    tiled_values["humidity"] = np.where(safe, tiled_values["humidity"], 0.5)
-    tiled_values["co2"] = np.where(safe, tiled_values["co2"], 0.0004)
-    with np.errstate(all="ignore"):
-        propagation = propagate(mistake_model, tiled_values, tiled_u, tiled_static,
-                                output="molar_mass")
-    value = propagation.value.reshape(count, runs)
-    u = propagation.standard_uncertainty.reshape(count, runs)
+    value, u = _variant_values(values, uncertainties, static, variants, usable,
+                               arithmetic_tolerance, air_density_tolerance)
     u_reported = np.nan_to_num(np.asarray(u_reported, dtype=float))
     with np.errstate(invalid="ignore"):
         window = COVERAGE_FACTOR * np.sqrt(u**2 + u_reported**2)
@@ -361,13 +330,56 @@ def diagnose(values, uncertainties, static, reported, u_reported, *, arithmetic_
         normalised = (reported - value[0]) / (window[0] / COVERAGE_FACTOR)
     reported_here = np.isfinite(reported) & usable
     agrees = ~reported_here | fits[0]
-    applicable = mistake_applies([v.code or "correct" for v in variants], method_code)
+    applicable = mistake_applies([v.code or "correct" for v in variants], static["method_code"])
     applicable[0] = True
     fits = fits & applicable & (reported_here & ~agrees)[None, :]
     # closeness of each fitting variant, to name the best one per code
     closeness = np.where(fits, deviation / np.where(window > 0, window, np.inf), np.inf)
+    codes, text = _explain(agrees, fits, closeness, variants)
+    return Diagnosis(codes=codes, text=text, agrees=agrees, recomputed=value[0],
+                     u_recomputed=u[0], normalised_deviation=np.where(reported_here, normalised,
+                                                                      np.nan),
+                     variant_values=value, variants=variants)
+
+
+def _variant_values(values, uncertainties, static, variants, usable, arithmetic_tolerance,
+                    air_density_tolerance):
+    """Every variant's molar mass and standard uncertainty for every run, shape (variants, runs)."""
+    runs = len(usable)
+    count = len(variants)
+    tiled_values = {name: np.tile(np.asarray(item, dtype=float), count)
+                    for name, item in values.items()}
+    tiled_u = {name: np.tile(np.asarray(item, dtype=float), count)
+               for name, item in uncertainties.items()}
+    method_code = np.asarray(static["method_code"])
+    # the student computes an air density only where the method adds displaced air
+    displaces = select_by_method(method_code, lambda method: float(
+        method.gas_mass_without_displaced_air is not None)) != 0
+    tiled_u["student_air_density"] = np.tile(np.where(displaces, air_density_tolerance, 0.0),
+                                             count)
+    tiled_u["student_arithmetic"] = np.full(runs * count, arithmetic_tolerance)
+    tiled_static = {name: np.tile(np.asarray(item), count) for name, item in static.items()}
+    for name in ("temperature_offset", "volume_factor", "pressure_factor", "gas_constant_factor",
+                 "mass_mode"):
+        tiled_static[name] = np.repeat(np.array([getattr(v, name) for v in variants]), runs)
+    # rows that cannot be evaluated get harmless stand-ins, so the arrays stay finite
+    safe = np.tile(usable, count)
+    stand_ins = {"air_density_formula": 0.0, "water_vapour": 0.0, "humidity": 0.5, "co2": 0.0004}
+    for name in tiled_values:
+        tiled_values[name] = np.where(safe, tiled_values[name], stand_ins.get(name, 1.0))
+    tiled_values["student_air_density"] = np.zeros(runs * count)
+    tiled_values["student_arithmetic"] = np.zeros(runs * count)
+    with np.errstate(all="ignore"):
+        propagation = propagate(mistake_model, tiled_values, tiled_u, tiled_static,
+                                output="molar_mass")
+    return (propagation.value.reshape(count, runs),
+            propagation.standard_uncertainty.reshape(count, runs))
+
+
+def _explain(agrees, fits, closeness, variants):
+    """Codes and plain words per run from which variants fit it."""
     codes, text = [], []
-    for run in range(runs):
+    for run in range(len(agrees)):
         if agrees[run]:
             codes.append([])
             text.append("")
@@ -384,8 +396,5 @@ def diagnose(values, uncertainties, static, reported, u_reported, *, arithmetic_
         codes.append(run_codes)
         text.append("your result is what you get if " + "; or if ".join(
             variants[best[code]].words for code in run_codes))
-    return Diagnosis(codes=codes, text=text, agrees=agrees, recomputed=value[0],
-                     u_recomputed=u[0], normalised_deviation=np.where(reported_here, normalised,
-                                                                      np.nan),
-                     variant_values=value, variants=variants)
+    return codes, text
 
