@@ -1,7 +1,7 @@
 """The errors a user can cause, gathered so the command line reports each without a traceback."""
 
+from molid.io.problems import InputError
 from molid.io.profiles import ProfileError
-from molid.io.reading import InputError
 from molid.io.safe_files import OutputRefused
 from molid.io.units import UnitProblem
 

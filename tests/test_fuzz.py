@@ -10,7 +10,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from molid.io.json_document import to_json
-from molid.io.reading import InputError
+from molid.io.problems import InputError
 from molid.io.run_csv import to_csv
 from molid.pipeline.identify import identify
 

@@ -18,7 +18,7 @@ import pandas as pd
 
 from molid.candidates.evaluation import evaluate_in_blocks
 from molid.candidates.verdicts import SEPARATION_FACTOR, VERDICTS, rank_order, verdicts
-from molid.methods.model import INPUT_LABELS
+from molid.methods.inputs import INPUT_LABELS
 
 __all__ = [
     "Ranking",

@@ -15,6 +15,7 @@ from molid.io.columns import METHODS
 from molid.io.headers import Header
 from molid.io.problems import RowProblems
 from molid.io.units import ColumnUnit, resolve_unit
+from molid.methods.registry import METHODS as REGISTERED_METHODS
 
 __all__ = ["check_run_ids", "check_methods", "check_ranges"]
 
@@ -164,12 +165,15 @@ def _check_fractions(values: dict, by_name: dict[str, Header], problems: RowProb
 
 def _check_mass_difference(values: dict, units: dict[str, ColumnUnit], text: pd.DataFrame,
                            problems: RowProblems) -> None:
-    """Error where an evacuated bulb does not weigh more filled than empty."""
+    """Error where a vessel that must gain weight when filled (its method says so) does not."""
     difference = values["mass_filled"] - values["mass_tare"]
-    method = text["method"].to_numpy()
+    method = pd.Series(text["method"].to_numpy(dtype=object), dtype=object)
+    registered = REGISTERED_METHODS.items()
+    must_gain = method.map({name: entry.gains_weight_when_filled for name, entry in registered})
+    vessel = method.map({name: entry.vessel for name, entry in registered}).to_numpy(dtype=object)
     problems.error(
-        (method == "evacuated-bulb") & (difference <= 0),
-        lambda i: "columns 'mass_filled'/'mass_tare': an evacuated bulb cannot weigh less "
+        must_gain.fillna(False).to_numpy(dtype=bool) & (difference <= 0),
+        lambda i: f"columns 'mass_filled'/'mass_tare': {vessel[i]} cannot weigh less "
         f"or the same when filled (difference {difference[i] / units['mass_tare'].scale:.6g} "
         f"{units['mass_tare'].text}); check the tare and filled readings",
     )

@@ -29,16 +29,12 @@ from molid.io.cells import (
     text_columns,
 )
 from molid.io.checks import check_methods, check_ranges, check_run_ids
-from molid.io.columns import METHODS, REQUIRED_COLUMNS
 from molid.io.defaults import fill_defaults
 from molid.io.headers import measured_units, parse_header, resolve_headers, uncertainty_columns
 from molid.io.problems import InputError, RowProblems
 from molid.io.profiles import InstrumentProfile, load_profile
 
 __all__ = [
-    "METHODS",
-    "REQUIRED_COLUMNS",
-    "InputError",
     "RunIds",
     "RunTable",
     "first_uses",
@@ -46,9 +42,6 @@ __all__ = [
     "parse_runs",
     "read_runs",
 ]
-
-# Kept under its former name: molid.teaching imports it from here.
-_parse_header = parse_header
 
 
 class RunIds:
@@ -181,7 +174,7 @@ def _decode(data: bytes, notes: list) -> str:
         return data.decode("cp1252", errors="replace")
 
 
-def _sniff_separator(text: str) -> str:
+def sniff_separator(text: str) -> str:
     for line in text.splitlines():
         if line.strip():
             counts = {sep: line.count(sep) for sep in (";", ",", "\t")}
@@ -227,7 +220,7 @@ def read_raw(source) -> tuple[pd.DataFrame, bool, list, str]:
     if data[:4] == b"PK\x03\x04":  # a zip archive: an .xlsx workbook
         return _read_workbook(data, name), False, notes, name
     text = _decode(data, notes)
-    separator = _sniff_separator(text)
+    separator = sniff_separator(text)
     return _read_csv(text, separator, name), separator in (";", "\t"), notes, name
 
 

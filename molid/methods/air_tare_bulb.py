@@ -98,6 +98,7 @@ def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MA
 METHOD = Method(
     name="air-tare-bulb",
     summary="tare is the bulb full of ambient air",
+    vessel="a bulb tared full of air",
     required_inputs=("mass_tare", "mass_filled", "volume", "temperature", "pressure"),
     optional_inputs=("humidity", "air_temperature", "air_pressure", "co2"),
     gas_mass=gas_mass,
@@ -106,4 +107,6 @@ METHOD = Method(
     mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "no-buoyancy", "masses-swapped",
               "gas-constant-units"),
     simulate_readings=simulate_readings,
+    gains_weight_when_filled=False,
+    cautions=("evacuated glass can implode: shield or tape the bulb and wear eye protection",),
 )

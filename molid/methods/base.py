@@ -102,6 +102,8 @@ class Method:
         The word in a run sheet's ``method`` column.
     summary : str
         One line: what the tare reading is.
+    vessel : str
+        The vessel in a few words, for messages ("an evacuated bulb").
     required_inputs, optional_inputs : tuple of str
         Measured inputs (names of :data:`molid.methods.inputs.MEASURED_INPUTS`)
         the method needs, and those it uses when given.
@@ -119,10 +121,16 @@ class Method:
     simulate_readings : callable
         ``simulate_readings(gas_mass, air_density, volume, glass_mass, outer_volume)``
         → (tare, filled) balance indications [kg] of an ideal balance.
+    gains_weight_when_filled : bool
+        The filled reading must exceed the tare whatever the gas (nothing
+        leaves the vessel as the gas enters), so a smaller one is a row error.
+    cautions : tuple of str
+        Safety cautions for the apparatus, printed in reports.
     """
 
     name: str
     summary: str
+    vessel: str
     required_inputs: tuple
     optional_inputs: tuple
     gas_mass: Callable
@@ -130,6 +138,8 @@ class Method:
     candidate_corrections: tuple
     mistakes: tuple
     simulate_readings: Callable
+    gains_weight_when_filled: bool
+    cautions: tuple
 
 
 def missing_parts(method: Method) -> list[str]:

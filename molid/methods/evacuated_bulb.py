@@ -76,6 +76,7 @@ def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MA
 METHOD = Method(
     name="evacuated-bulb",
     summary="tare is the evacuated bulb",
+    vessel="an evacuated bulb",
     required_inputs=("mass_tare", "mass_filled", "volume", "temperature", "pressure"),
     optional_inputs=("humidity", "air_temperature", "air_pressure", "co2"),
     gas_mass=gas_mass,
@@ -84,4 +85,6 @@ METHOD = Method(
     mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "masses-swapped",
               "gas-constant-units"),
     simulate_readings=simulate_readings,
+    gains_weight_when_filled=True,
+    cautions=("evacuated glass can implode: shield or tape the bulb and wear eye protection",),
 )

@@ -18,21 +18,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from molid.methods.inputs import INPUT_LABELS, MODEL_INPUTS
-from molid.methods.registry import METHOD_CODES, method_codes, select_by_method
+from molid.methods.registry import select_by_method
 from molid.physics.air import moist_air_density
 from molid.physics.constants import GAS_CONSTANT
 from molid.physics.water import MOLAR_MASS_WATER, saturation_pressure_water
 
-__all__ = [
-    "METHOD_CODES",
-    "MODEL_INPUTS",
-    "INPUT_LABELS",
-    "method_codes",
-    "gas_mass",
-    "ideal_gas_molar_mass",
-    "measurement_model",
-]
+__all__ = ["gas_mass", "ideal_gas_molar_mass", "measurement_model"]
 
 def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
     r"""Mass of gas in the vessel from two balance readings [kg].

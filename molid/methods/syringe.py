@@ -51,6 +51,7 @@ def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MA
 METHOD = Method(
     name="syringe",
     summary="tare is the empty syringe, plunger home",
+    vessel="a gas syringe",
     required_inputs=("mass_tare", "mass_filled", "volume", "temperature", "pressure"),
     optional_inputs=("humidity", "air_temperature", "air_pressure", "co2"),
     gas_mass=gas_mass,
@@ -59,4 +60,6 @@ METHOD = Method(
     mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "no-buoyancy", "masses-swapped",
               "gas-constant-units"),
     simulate_readings=simulate_readings,
+    gains_weight_when_filled=False,
+    cautions=(),
 )

@@ -17,7 +17,7 @@ from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.reading import RunTable, read_runs
 from molid.methods.inputs import INPUT_LABELS, MEASURED_INPUTS
 from molid.methods.model import measurement_model
-from molid.methods.registry import method_codes
+from molid.methods.registry import METHODS, method_codes
 from molid.uncertainty.propagation import COVERAGE_FACTOR, budget_percent, propagate
 from molid.uncertainty.replicates import combine_replicates, shared_inputs
 
@@ -159,7 +159,7 @@ def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
     add(ok & (extras["gas_mass"] <= 0), lambda index: (
         f"row {rows[index]}: with the displaced air added back, the gas mass comes out "
         f"{extras['gas_mass'][index] * 1e3:.4g} g, which cannot be; check the method "
-        "(evacuated-bulb, air-tare-bulb or syringe), the readings and the volume"))
+        f"({', '.join(METHODS)}), the readings and the volume"))
     add(ok & ~(np.isfinite(molar_mass) & np.isfinite(u)), lambda index: (
         f"row {rows[index]}: the result is not a finite number (a value too large or too "
         "small for the arithmetic); check the numbers and their units"))

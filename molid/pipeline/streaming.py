@@ -21,8 +21,9 @@ from pathlib import Path
 
 import pandas as pd
 
+from molid.io.problems import InputError
 from molid.io.profiles import InstrumentProfile, load_profile
-from molid.io.reading import InputError, RunIds, _sniff_separator, first_uses, parse_runs
+from molid.io.reading import RunIds, first_uses, parse_runs, sniff_separator
 from molid.io.safe_files import atomic_output
 from molid.pipeline.identify import identify
 
@@ -199,7 +200,7 @@ def _plan_chunks(path, chunk_rows) -> _ChunkPlan:
     notes: dict = {}
     if encoding == "cp1252":
         notes["the file is not valid UTF-8; it was read as Windows-1252"] = None
-    separator = _sniff_separator(head.decode(encoding, errors="replace"))
+    separator = sniff_separator(head.decode(encoding, errors="replace"))
     return _ChunkPlan(path, encoding, separator, chunk_rows, notes)
 
 

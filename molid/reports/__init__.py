@@ -22,7 +22,7 @@ import os
 import sys
 from pathlib import Path
 
-from molid.io.reading import InputError
+from molid.io.problems import InputError
 
 __all__ = [
     "ReportError",

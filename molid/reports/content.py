@@ -17,7 +17,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from molid.methods.model import INPUT_LABELS
+from molid.methods.inputs import INPUT_LABELS
+from molid.methods.registry import METHODS
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = [
@@ -73,7 +74,6 @@ _CAUTIONS = (
     ("Radioactive", "radioactive: radiation-protection rules apply"),
 )
 
-_GLASS_CAUTION = ("evacuated glass can implode: shield or tape the bulb and wear eye protection")
 
 _UNIT_WORDS = {"degC": "°C", "degF": "°F", "percent": "%", "m**3": "m³", "cm**3": "cm³",
                "cm^3": "cm³", "m^3": "m³", "kelvin": "K"}
@@ -333,8 +333,10 @@ def _safety_block(candidates, library_hazards, methods) -> Bullets:
         for caution in hazard_cautions(hazards):
             if caution not in cautions:
                 cautions.append(caution)
-    if any(method in ("evacuated-bulb", "air-tare-bulb") for method in methods):
-        cautions.append(_GLASS_CAUTION)
+    for method in dict.fromkeys(methods):
+        for caution in getattr(METHODS.get(method), "cautions", ()):
+            if caution not in cautions:
+                cautions.append(caution)
     if cautions:
         items.append("Precautions: " + "; ".join(cautions) + ".")
     return Bullets("Safety: hazard classes (GHS) of the leading candidates", items, "safety",

@@ -266,8 +266,8 @@ _SUMMARY_WIDTHS = [34.0, 11.0, 12.0, 18.0, 18.0, 18.0, 20.0, 16.0, 14.0]
 
 
 def _summary_pages(grading) -> list:
+    from molid.methods.mistakes import DESCRIPTIONS
     from molid.teaching import class_plots
-    from molid.teaching.diagnosis import DESCRIPTIONS
 
     summary = grading.summary
     overall = summary["overall"]

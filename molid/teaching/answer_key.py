@@ -8,7 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from molid.io.reading import InputError, _parse_header, read_raw
+from molid.io.headers import parse_header
+from molid.io.problems import InputError
+from molid.io.reading import read_raw
 
 __all__ = ["KeyFileError", "read_key", "identities_from_key"]
 
@@ -55,7 +57,7 @@ def read_key(source) -> dict:
         raw, _, _, name = read_raw(source)
     except InputError as problem:
         raise KeyFileError(f"answer key: {problem}") from None
-    names = [_parse_header(column).name for column in raw.columns]
+    names = [parse_header(column).name for column in raw.columns]
     if "sample" not in names:
         raise KeyFileError(f"answer key {name}: no 'sample' column (found: "
                            + ", ".join(f"'{c}'" for c in raw.columns) + ")")

@@ -9,8 +9,8 @@ from typing import TYPE_CHECKING
 import numpy as np
 import pandas as pd
 
+from molid.methods.mistakes import MISTAKE_CODES, UNEXPLAINED
 from molid.teaching.class_summary import json_number
-from molid.teaching.diagnosis import MISTAKE_CODES, UNEXPLAINED
 
 if TYPE_CHECKING:
     from molid.teaching.grading import Grading

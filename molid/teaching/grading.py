@@ -33,12 +33,15 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from molid.io.headers import parse_header
+from molid.io.problems import InputError
 from molid.io.profiles import load_profile
-from molid.io.reading import InputError, RunTable, _parse_header, read_runs
+from molid.io.reading import RunTable, read_runs
+from molid.methods.mistakes import UNEXPLAINED
 from molid.pipeline.identify import Identification, identify, model_inputs
 from molid.teaching.answer_key import identities_from_key
 from molid.teaching.class_summary import summarise
-from molid.teaching.diagnosis import UNEXPLAINED, Diagnosis, diagnose
+from molid.teaching.diagnosis import Diagnosis, diagnose
 from molid.teaching.rubric import Rubric, load_rubric
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -96,7 +99,7 @@ class Grading:
 def _column(table: RunTable, name: str):
     """Find the file's header for a column name (headers may carry a unit); None if absent."""
     for original in table.raw.columns:
-        if _parse_header(original).name == name:
+        if parse_header(original).name == name:
             return original
     return None
 

@@ -18,8 +18,8 @@ from pathlib import Path
 
 import numpy as np
 
-from molid.io.reading import InputError
-from molid.teaching.diagnosis import MISTAKE_CODES, UNEXPLAINED
+from molid.io.problems import InputError
+from molid.methods.mistakes import MISTAKE_CODES, UNEXPLAINED
 
 if sys.version_info >= (3, 11):
     import tomllib

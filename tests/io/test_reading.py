@@ -6,7 +6,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from molid.io.reading import InputError, read_runs
+from molid.io.problems import InputError
+from molid.io.reading import read_runs
 from molid.pipeline.identify import identify
 
 HEADER = "run,method,mass_tare,mass_filled,volume,temperature,pressure"

@@ -5,7 +5,7 @@ import dataclasses
 import numpy as np
 import pytest
 
-from molid.io.reading import METHODS as READER_METHODS
+from molid.io.columns import METHODS as READER_METHODS
 from molid.methods.base import Method, missing_parts
 from molid.methods.model import gas_mass
 from molid.methods.registry import METHOD_CODES, METHODS, mistake_applies

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from molid.cli import main
-from molid.io.reading import InputError
+from molid.io.problems import InputError
 from molid.io.run_csv import to_csv
 from molid.pipeline.identify import identify
 from molid.pipeline.streaming import identify_to_csv

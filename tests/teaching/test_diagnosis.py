@@ -14,9 +14,10 @@ import pytest
 
 from molid.io.profiles import load_profile
 from molid.io.reading import read_runs
+from molid.methods.mistakes import MISTAKE_CODES, UNEXPLAINED
 from molid.methods.model import measurement_model
 from molid.pipeline.identify import model_inputs
-from molid.teaching.diagnosis import MISTAKE_CODES, UNEXPLAINED, mistake_model, mistake_variants
+from molid.teaching.diagnosis import mistake_model, mistake_variants
 from molid.teaching.grading import grade, written_resolution
 
 simulate = pytest.importorskip("simulate")
