@@ -259,9 +259,22 @@ def _grade(args) -> int:
 
 
 def _report(args) -> int:
-    from molid.reports import run_report_command
+    from pathlib import Path
 
-    return run_report_command(args)
+    from molid.reports import format_for, write_report
+
+    path, ok = write_report(
+        args.file, args.output, format=args.format, paper=args.paper, profile=args.profile,
+        library=_load_library(args), top=args.top, key=args.key, rubric=args.rubric,
+        force=args.force, inputs=[args.library],
+    )
+    print(f"wrote {path}", file=sys.stderr)
+    suffix = Path(str(path)).suffix.lower()
+    written = format_for(path, args.format)
+    if suffix in (".pdf", ".html", ".htm") and written != format_for(path, None):
+        print(f"molid: note: {path} holds a {written.upper()} report although its name ends in "
+              f"{suffix}", file=sys.stderr)
+    return EXIT_OK if ok else EXIT_ROW_ERRORS
 
 
 _HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report}

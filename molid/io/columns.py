@@ -15,7 +15,6 @@ __all__ = [
     "METHODS",
     "REQUIRED_COLUMNS",
     "MEASURED_COLUMNS",
-    "TEXT_COLUMNS",
     "UNCERTAIN_INPUTS",
 ]
 
@@ -26,7 +25,5 @@ METHODS = {name: method.summary for name, method in REGISTERED_METHODS.items()}
 REQUIRED_COLUMNS = ("run", "method") + REQUIRED_EVERYWHERE
 #: Columns read as numbers in a unit, converted to SI.
 MEASURED_COLUMNS = tuple(COLUMN_KINDS)
-#: Columns kept as text.
-TEXT_COLUMNS = ("run", "sample", "method", "wet", "expected")
 #: Inputs that may have a u_<name> column; u_mass applies to both readings.
 UNCERTAIN_INPUTS = MEASURED_INPUTS

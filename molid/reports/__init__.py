@@ -25,12 +25,12 @@ from pathlib import Path
 from molid.io.problems import InputError
 
 __all__ = [
+    "format_for",
     "ReportError",
     "FORMATS",
     "build_report",
     "render_report",
     "write_report",
-    "run_report_command",
     "is_graded",
 ]
 
@@ -174,7 +174,8 @@ def render_report(report, format="pdf", paper="a4") -> bytes:
     raise ReportError(f"report format '{format}' is not one of {', '.join(FORMATS)}")
 
 
-def _format_for(output, format):
+def format_for(output, format):
+    """Return the report format asked for, or the one the output's name implies (PDF by default)."""
     if format:
         return format
     suffix = Path(str(output)).suffix.lower()
@@ -217,27 +218,5 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
                                       else None, key, rubric, *inputs], force)
     report, ok = build_report(source, profile=profile, library=library, top=top, key=key,
                               rubric=rubric)
-    write_atomic(path, render_report(report, _format_for(path, format), paper))
+    write_atomic(path, render_report(report, format_for(path, format), paper))
     return path, ok
-
-
-def run_report_command(args) -> int:
-    """Run the ``molid report`` command; return the exit status (0, or 1 when rows had errors)."""
-    library = None
-    if args.library or args.replace_library or args.candidate:
-        from molid.candidates.library import load_library
-
-        library = load_library(args.library, mode="replace" if args.replace_library else "merge",
-                               extra_candidates=tuple(args.candidate))
-    path, ok = write_report(
-        args.file, args.output, format=args.format, paper=args.paper, profile=args.profile,
-        library=library, top=args.top, key=args.key, rubric=args.rubric, force=args.force,
-        inputs=[args.library],
-    )
-    print(f"wrote {path}", file=sys.stderr)
-    suffix = Path(str(path)).suffix.lower()
-    written = _format_for(path, args.format)
-    if suffix in (".pdf", ".html", ".htm") and written != _format_for(path, None):
-        print(f"molid: note: {path} holds a {written.upper()} report although its name ends in "
-              f"{suffix}", file=sys.stderr)
-    return 0 if ok else 1
