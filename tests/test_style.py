@@ -1,5 +1,6 @@
 """The code style the project follows, enforced: ruff with numpydoc docstring rules (pyproject.toml)."""
 
+import ast
 import subprocess
 import sys
 from pathlib import Path
@@ -15,3 +16,63 @@ def test_ruff_is_clean():
     result = subprocess.run([sys.executable, "-m", "ruff", "check", "molid", "tests"], cwd=ROOT,
                             capture_output=True, text=True)
     assert result.returncode == 0, result.stdout + result.stderr
+
+
+def _modules():
+    """Each module of the package: dotted name → parsed tree."""
+    modules = {}
+    for path in sorted((ROOT / "molid").rglob("*.py")):
+        parts = list(path.relative_to(ROOT).with_suffix("").parts)
+        if parts[-1] == "__init__":
+            parts = parts[:-1]
+        modules[".".join(parts)] = (path, ast.parse(path.read_text(encoding="utf-8")))
+    return modules
+
+
+def _imports(name, path, tree, known):
+    """Modules of the package that a module imports, at the top or inside functions."""
+    package = name if path.name == "__init__.py" else name.rpartition(".")[0]
+    found = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            found.update(alias.name for alias in node.names)
+        elif isinstance(node, ast.ImportFrom):
+            base = node.module or ""
+            if node.level:
+                parent = package.split(".")[: len(package.split(".")) - node.level + 1]
+                base = ".".join(parent + ([base] if base else []))
+            found.add(base)
+            found.update(f"{base}.{alias.name}" for alias in node.names)
+    # a module importing its own package (for a sibling) is not a cycle through the package
+    return {other for other in found if other in known and other != name
+            and not name.startswith(other + ".")}
+
+
+def test_no_import_cycle():
+    """Checks behaviour: no module of molid imports, through any chain, a module that imports it back."""
+    modules = _modules()
+    graph = {name: _imports(name, path, tree, modules) for name, (path, tree) in modules.items()}
+    state = {}
+
+    def visit(name, trail):
+        state[name] = "open"
+        for other in sorted(graph[name]):
+            if state.get(other) == "open":
+                cycle = trail[trail.index(other):] + [other]
+                pytest.fail("import cycle: " + " -> ".join(cycle))
+            if other not in state:
+                visit(other, trail + [other])
+        state[name] = "done"
+
+    for name in sorted(graph):
+        if name not in state:
+            visit(name, [name])
+
+
+def test_functions_are_short():
+    """Checks behaviour: no function of molid is over 80 lines, docstring included (DEVELOPERS.md)."""
+    long = [f"{path.relative_to(ROOT)}:{node.lineno} {node.name} ({node.end_lineno - node.lineno + 1})"
+            for path, tree in _modules().values() for node in ast.walk(tree)
+            if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef))
+            and node.end_lineno - node.lineno + 1 > 80]
+    assert long == []
