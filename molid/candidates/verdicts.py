@@ -10,7 +10,19 @@ excluded   |z| > 3
 condenses  the pure substance would be liquid at the run's T and p
 ========== =====================================================
 
+The bands are those of the z-score performance statistic in proficiency testing:
+ISO 13528:2015, 9.4.1 (unchanged in ISO 13528:2022) calls |z| ≤ 2.0
+satisfactory, 2.0 < |z| < 3.0 questionable (a warning signal) and |z| ≥ 3.0
+unsatisfactory (an action signal) (from memory). At exactly |z| = 3.0 molid says
+``marginal`` where ISO 13528 would say unsatisfactory; for a continuous z the two
+differ on a single point.
+
 Candidates are ranked by |z|, condensing ones last.
+
+References
+----------
+ISO 13528:2015, Statistical methods for use in proficiency testing by
+interlaboratory comparison, 9.4.1 (evaluation of z scores).
 """
 
 from __future__ import annotations
@@ -27,7 +39,9 @@ __all__ = [
 ]
 
 VERDICTS = ("consistent", "marginal", "excluded", "condenses")
+#: |z| at or below which a candidate is consistent: ISO 13528:2015, 9.4.1, "satisfactory" |z| ≤ 2.0.
 CONSISTENT_LIMIT = 2.0
+#: |z| above which a candidate is excluded: ISO 13528:2015, 9.4.1, "action signal" at |z| ≥ 3.0.
 MARGINAL_LIMIT = 3.0
 #: The true candidate within 2u and the other beyond 3u: the gap must be 5u.
 SEPARATION_FACTOR = CONSISTENT_LIMIT + MARGINAL_LIMIT
