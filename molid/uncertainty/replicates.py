@@ -14,7 +14,13 @@ References
 R. T. Birge, "The calculation of errors by the method of least squares",
 Phys. Rev. 40 (1932) 207-227, doi:10.1103/PhysRev.40.207.
 
-JCGM 100:2008 (GUM), 4.2 (Type A evaluation) and F.1.2 (correlated inputs).
+P. J. Mohr, D. B. Newell, B. N. Taylor, "CODATA recommended values of the
+fundamental physical constants: 2014", Rev. Mod. Phys. 88 (2016) 035009,
+doi:10.1103/RevModPhys.88.035009 (the Birge ratio R_B = √(χ²/ν) in the
+appendix on least squares).
+
+JCGM 100:2008 (GUM), 4.2 (Type A evaluation), 5.2.2 (correlated input
+quantities) and F.1.2 (correlated inputs).
 """
 
 from __future__ import annotations
@@ -129,6 +135,11 @@ def combine_replicates(sample, value, u, shared_contributions: dict, ok) -> pd.D
     References
     ----------
     R. T. Birge, Phys. Rev. 40 (1932) 207-227.
+
+    P. J. Mohr, D. B. Newell, B. N. Taylor, Rev. Mod. Phys. 88 (2016) 035009 (Birge ratio).
+
+    JCGM 100:2008 (GUM), 5.2.2: a shared input is fully correlated between runs, so
+    its contribution is not divided by √n.
     """
     ok = np.asarray(ok, dtype=bool)
     sample = np.asarray(sample, dtype=object)
