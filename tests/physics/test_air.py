@@ -1,4 +1,9 @@
-"""Tests for molid.physics.air: moist-air density by the CIPM-2007 equation."""
+"""Tests for molid.physics.air: moist-air density by the CIPM-2007 equation.
+
+Sources: CoolProp 8.0 humid air (ASHRAE RP-1485) and Lemmon air EOS, the iapws package 1.5
+(IAPWS-95), periodictable 2.1 atomic weights, and Picard et al., Metrologia 45 (2008) 149
+(values from memory, tests/reference_values.toml [air]).
+"""
 
 import itertools
 import sys
@@ -40,7 +45,7 @@ def _coolprop_grid():
 
 
 def test_density_against_coolprop_humid_air():
-    """15-30 °C, 95-105 kPa, 10-90 % RH: rho agrees with CoolProp HAPropsSI (1/Vha) to 1e-4."""
+    """15-30 °C, 95-105 kPa, 10-90 % RH: rho agrees with CoolProp 8.0 HAPropsSI (1/Vha) to 6e-5."""
     temperature, pressure, humidity = _coolprop_grid()
     expected = np.array(
         [
@@ -54,7 +59,7 @@ def test_density_against_coolprop_humid_air():
 
 
 def test_compressibility_against_coolprop_humid_air():
-    """Z of moist air agrees with CoolProp HAPropsSI 'Z' on the same grid to 5e-5."""
+    """Z of moist air agrees with CoolProp 8.0 HAPropsSI 'Z' on the same grid to 5e-5."""
     temperature, pressure, humidity = _coolprop_grid()
     expected = np.array(
         [
@@ -69,7 +74,7 @@ def test_compressibility_against_coolprop_humid_air():
 
 
 def test_compressibility_water_terms_against_coolprop():
-    """Z(RH) - Z(0), the water terms of Z, agrees with CoolProp HAPropsSI to 5e-6."""
+    """Z(RH) - Z(0), the water terms of Z, agrees with CoolProp 8.0 HAPropsSI to 5e-6."""
     temperature, pressure, humidity = _coolprop_grid()
     expected = np.array(
         [
@@ -86,7 +91,7 @@ def test_compressibility_water_terms_against_coolprop():
 
 
 def test_enhancement_factor_against_coolprop():
-    """Enhancement factor equals CoolProp's saturated psi_w * p / p_sat to 2.5e-4."""
+    """Enhancement factor equals CoolProp 8.0's saturated psi_w * p / p_sat (IAPWS-95) to 2.5e-4."""
     entry = REFERENCE["coolprop_density_grid"]
     rows = list(
         itertools.product(
@@ -106,7 +111,7 @@ def test_enhancement_factor_against_coolprop():
 
 
 def test_saturation_vapour_pressure_against_iapws95():
-    """CIPM-2007 psv agrees with the IAPWS-95 saturation pressure (iapws package) to 1e-4."""
+    """CIPM-2007 psv agrees with the IAPWS-95 saturation pressure (iapws package 1.5) to 1e-4."""
     entry = REFERENCE["saturation_vapour_pressure_iapws95"]
     temperatures = np.array(entry["temperatures_celsius"]) + ZERO_CELSIUS
     expected = np.array([IAPWS95(T=t, x=0).P * 1e6 for t in temperatures])
@@ -115,7 +120,10 @@ def test_saturation_vapour_pressure_against_iapws95():
 
 
 def test_reference_conditions_density():
-    """20 °C, 101.325 kPa, 50 % RH, 400 µmol/mol CO2 gives about 1.1993 kg/m³ (from memory)."""
+    """20 °C, 101.325 kPa, 50 % RH, 400 µmol/mol CO2 gives about 1.1993 kg/m³.
+
+    Source: common practice, from memory (reference_values.toml [air.reference_conditions]).
+    """
     entry = REFERENCE["reference_conditions"]
     computed = air.moist_air_density(
         entry["pressure"],
@@ -134,7 +142,10 @@ def test_molar_mass_dry_air_published_value():
 
 
 def test_molar_mass_dry_air_from_composition():
-    """Ma from the CIPM-2007 air composition and periodictable atomic weights agrees to 3e-5."""
+    """Ma from the CIPM-2007 air composition and periodictable atomic weights agrees to 3e-5.
+
+    Source: Picard et al. 2008, Table 1 composition (from memory); periodictable 2.1 atomic weights.
+    """
     entry = REFERENCE["dry_air_composition"]
     fractions = np.array(entry["mole_fractions"])
     masses = np.array([periodictable.formula(name).mass for name in entry["species"]])
@@ -146,14 +157,23 @@ def test_molar_mass_dry_air_from_composition():
 
 
 def test_molar_mass_dry_air_co2_slope_is_carbon():
-    """dMa/dx_CO2 is M(CO2) - M(O2) = M(C): CO2 replaces O2 (periodictable atomic weights)."""
+    """dMa/dx_CO2 is M(CO2) - M(O2) = M(C): CO2 replaces O2 in dry air.
+
+    Source: Picard et al. 2008, Ma = [28.96546 + 12.011 (x_CO2 - 0.0004)] 1e-3 kg/mol (from
+    memory); M(C) from periodictable 2.1 atomic weights.
+    """
     slope = air.molar_mass_dry_air(0.0004 + 1j * COMPLEX_STEP).imag / COMPLEX_STEP
     carbon = (periodictable.formula("CO2").mass - periodictable.formula("O2").mass) / 1e3
     assert slope == pytest.approx(carbon, rel=1e-4)
 
 
 def test_gas_constant_choice(monkeypatch):
-    """Density uses SI 2019 R; the paper's CODATA 2006 R would lower it by R ratio (1.1e-6)."""
+    """Density uses SI 2019 R; the paper's CODATA 2006 R changes it by the ratio of the two (1.1e-6).
+
+    Sources: R = 8.314 462 618 J/(mol K) (SI Brochure, 9th ed., 2019) against the CODATA 2006
+    8.314 472 built into CIPM-2007 (Mohr, Taylor, Newell, Rev. Mod. Phys. 80 (2008) 633; from
+    memory); the formula's own 22e-6 from Picard et al. 2008 (from memory).
+    """
     entry = REFERENCE["gas_constant_cipm_2007"]
     conditions = (101325.0, 293.15, 0.5)
     density = air.moist_air_density(*conditions)
@@ -166,20 +186,36 @@ def test_gas_constant_choice(monkeypatch):
 
 
 def test_dry_air_limit():
-    """At RH = 0 the density reduces to p Ma / (Z R T) with x_v = 0 (ideal-gas law with Z)."""
+    """At RH = 0 the density is CoolProp 8.0's dry humid-air density, and exactly p Ma / (Z R T).
+
+    Sources: CoolProp HAPropsSI 1/Vha at R = 0 (tolerance of [air.coolprop_density_grid]); the
+    form rho = p Ma / (Z R T) [1 - x_v (1 - Mv/Ma)] with x_v = 0 is CIPM-2007 eq. (1),
+    Picard et al., Metrologia 45 (2008) 149 (from memory).
+    """
     pressure = np.array([95000.0, 101325.0, 105000.0])
     temperature = np.array([288.15, 293.15, 300.15])
-    expected = (
+    computed = air.moist_air_density(pressure, temperature, 0.0)
+    coolprop = np.array(
+        [
+            1.0 / HAPropsSI("Vha", "T", t, "P", p, "R", 0.0)
+            for t, p in zip(temperature, pressure, strict=True)
+        ]
+    )
+    tolerance = REFERENCE["coolprop_density_grid"]["tolerance_relative"]
+    np.testing.assert_allclose(computed, coolprop, rtol=tolerance, atol=0)
+    equation_1 = (
         pressure
         * air.molar_mass_dry_air()
         / (air.compressibility_moist_air(pressure, temperature, 0.0) * GAS_CONSTANT * temperature)
     )
-    computed = air.moist_air_density(pressure, temperature, 0.0)
-    np.testing.assert_allclose(computed, expected, rtol=1e-15)
+    np.testing.assert_allclose(computed, equation_1, rtol=1e-15)
 
 
 def test_dry_air_molar_density_against_lemmon_air():
-    """At RH = 0, rho / Ma agrees with the molar density of CoolProp's Lemmon air EOS to 5e-5."""
+    """At RH = 0, rho / Ma agrees with the molar density of CoolProp 8.0's air EOS to 5e-5.
+
+    Source: CoolProp 'Air' pseudo-pure fluid, Lemmon et al., J. Phys. Chem. Ref. Data 29 (2000) 331.
+    """
     pressure = np.array([95000.0, 101325.0, 105000.0])
     temperature = np.array([288.15, 293.15, 300.15])
     expected = np.array(
@@ -194,14 +230,18 @@ def test_dry_air_molar_density_against_lemmon_air():
 
 
 def test_formula_uncertainty_constant():
-    """The module's own relative uncertainty is the paper's 22e-6 (from memory)."""
+    """The module's own relative uncertainty is the paper's 22e-6 (Picard et al. 2008, from memory)."""
     entry = REFERENCE["formula_uncertainty"]
     assert air.CIPM_2007_RELATIVE_UNCERTAINTY == entry["value"]
 
 
 @pytest.mark.parametrize("argument", ["pressure", "temperature", "relative_humidity"])
 def test_complex_step_matches_central_difference(argument):
-    """Complex-step d rho / d(p, T, RH) equals a central finite difference to 1e-7."""
+    """Complex-step d rho / d(p, T, RH) equals a central finite difference to 1e-7.
+
+    Reference: central differences (common practice); complex step after Squire and Trapp,
+    SIAM Review 40 (1998) 110.
+    """
     point = {"pressure": 99000.0, "temperature": 296.15, "relative_humidity": 0.45}
     increments = {"pressure": 1.0, "temperature": 1e-3, "relative_humidity": 1e-5}
     shifted = dict(point, **{argument: point[argument] + 1j * COMPLEX_STEP})
@@ -217,7 +257,7 @@ def test_complex_step_matches_central_difference(argument):
 
 
 def test_complex_step_over_array():
-    """Complex step works element-wise on arrays (the pipeline differentiates whole runs)."""
+    """Checks behaviour: complex step works element-wise on arrays, against central differences."""
     temperature = np.array([288.15, 293.15, 298.15, 303.15])
     shifted = air.moist_air_density(101325.0, temperature + 1j * COMPLEX_STEP, 0.5)
     increment = 1e-3
@@ -230,7 +270,7 @@ def test_complex_step_over_array():
 
 
 def test_broadcasting_shapes():
-    """Pressure (3, 1) against temperature (4,) broadcasts to (3, 4) like element-wise calls."""
+    """Checks behaviour: pressure (3, 1) against temperature (4,) broadcasts to (3, 4) like single calls."""
     pressure = np.array([[95000.0], [100000.0], [105000.0]])
     temperature = np.array([288.15, 293.15, 298.15, 303.15])
     grid = air.moist_air_density(pressure, temperature, 0.5)

@@ -62,13 +62,13 @@ def test_hill_order_examples(text, hill):
 
 @pytest.mark.parametrize("text", ["CO₂", "  C₃H₈  ", "C₂H₅OH", "SF₆"])
 def test_unicode_subscripts_and_spaces(text):
-    """Unicode subscripts and surrounding spaces are accepted."""
+    """Checks behaviour: Unicode subscripts and surrounding spaces are accepted."""
     plain = text.strip().translate(str.maketrans("₀₁₂₃₄₅₆₇₈₉", "0123456789"))
     assert same_formula(text, plain)
 
 
 def test_isomers_compare_equal_and_case_matters():
-    """Isomers have the same formula; CO (carbon monoxide) is not Co (cobalt)."""
+    """Isomers have the same formula; CO (carbon monoxide) is not Co (cobalt) (common practice)."""
     assert same_formula("CH3CH2OH", "CH3OCH3")
     assert same_formula("CH3CH2CH2CH3", "CH3CH(CH3)CH3")
     assert not same_formula("C2H6O", "C2H6O2")
@@ -78,7 +78,7 @@ def test_isomers_compare_equal_and_case_matters():
 
 @pytest.mark.parametrize("cas", ["124-38-9", "74-98-6", "811-97-2", "7782-39-0", "2551-62-4"])
 def test_molar_mass_against_chemicals(cas):
-    """Molar mass [kg/mol] from periodictable agrees with chemicals' MW within 0.01 g/mol.
+    """Molar mass [kg/mol] from periodictable agrees with chemicals 1.5's MW within 0.01 g/mol.
 
     chemicals uses older atomic weights (e.g. S 32.065 against IUPAC's conventional 32.06).
     """
@@ -87,7 +87,10 @@ def test_molar_mass_against_chemicals(cas):
 
 
 def test_molar_mass_is_si():
-    """The molar mass comes out in kg/mol: CO2 is 0.044009 kg/mol (IUPAC C 12.011, O 15.999)."""
+    """The molar mass comes out in kg/mol: CO2 is 0.044009 kg/mol.
+
+    Source: IUPAC (CIAAW) conventional atomic weights C 12.011, O 15.999 (from memory).
+    """
     assert molar_mass("CO2") == pytest.approx(0.044009, abs=1e-6)
 
 
@@ -99,7 +102,7 @@ def test_molar_mass_is_si():
     chlorine=st.integers(0, 4),
 )
 def test_molar_mass_and_hill_properties(carbon, hydrogen, oxygen, nitrogen, chlorine):
-    """For any CHONCl formula: M agrees with chemicals, Hill is idempotent and the same formula.
+    """For any CHONCl formula: M agrees with chemicals 1.5, Hill order with its atoms_to_Hill.
 
     chemicals' atomic weights are older IUPAC values (H 1.00794, Cl 35.453 against the
     conventional 1.008, 35.45), so the allowance is 0.0005 g/mol per C, H, O or N atom and
@@ -135,7 +138,7 @@ def test_molar_mass_and_hill_properties(carbon, hydrogen, oxygen, nitrogen, chlo
     ],
 )
 def test_bad_formulas_say_what_is_wrong_and_what_is_accepted(text, reason):
-    """Garbage is refused with a ValueError naming the fault and the accepted syntax."""
+    """Checks behaviour: garbage is refused with a ValueError naming the fault and the accepted syntax."""
     with pytest.raises(ValueError) as caught:
         parse_formula(text)
     message = str(caught.value)
@@ -145,13 +148,13 @@ def test_bad_formulas_say_what_is_wrong_and_what_is_accepted(text, reason):
 
 
 def test_non_string_is_a_type_error():
-    """A number is not a formula."""
+    """Checks behaviour: a number is not a formula (TypeError)."""
     with pytest.raises(TypeError):
         parse_formula(44)
 
 
 def test_formula_object_passes_through():
-    """A periodictable Formula is accepted as it is."""
+    """Checks behaviour: a periodictable Formula is accepted as it is."""
     formula = parse_formula("CH4")
     assert parse_formula(formula) is formula
     assert hill_formula(formula) == "CH4"

@@ -33,21 +33,27 @@ MEGAPASCAL = 1e6
 
 
 def test_triple_point_pressure():
-    """p_sat(273.16 K) matches the IAPWS-95 triple-point pressure 611.655 Pa."""
+    """p_sat(273.16 K) matches the IAPWS-95 triple-point pressure 611.655 Pa.
+
+    Source: IAPWS R6-95(2018) (from memory; reference_values.toml [water.triple_point]).
+    """
     entry = REFERENCE["triple_point"]
     computed = saturation_pressure_water(entry["temperature"])
     assert computed == pytest.approx(entry["pressure"], rel=entry["tolerance_relative"])
 
 
 def test_saturation_pressure_at_100_celsius():
-    """p_sat(373.15 K) matches the IAPWS-95 table value 101.418 kPa."""
+    """p_sat(373.15 K) matches the IAPWS-95 table value 101.418 kPa.
+
+    Source: Wagner and Pruss, J. Phys. Chem. Ref. Data 31 (2002) 387, saturation table (from memory).
+    """
     entry = REFERENCE["saturation_100C"]
     computed = saturation_pressure_water(entry["temperature"])
     assert computed == pytest.approx(entry["pressure"], rel=entry["tolerance_relative"])
 
 
 def test_critical_point_returns_critical_pressure():
-    """At T_c the series vanishes and p_sat = p_c (IAPWS R2-83(1992) critical point)."""
+    """At T_c the series vanishes and p_sat = p_c (IAPWS R2-83(1992) critical point, from memory)."""
     entry = REFERENCE["critical_point"]
     assert CRITICAL_TEMPERATURE_WATER == entry["temperature"]
     assert CRITICAL_PRESSURE_WATER == entry["pressure"]
@@ -56,7 +62,7 @@ def test_critical_point_returns_critical_pressure():
 
 
 def test_against_full_iapws95_saturation():
-    """0-100 °C: the auxiliary equation agrees with full IAPWS-95 (iapws package) to 1e-4."""
+    """0-100 °C: the auxiliary equation agrees with full IAPWS-95 (iapws package 1.5) to 1e-4."""
     entry = REFERENCE["iapws95_saturation"]
     temperatures = np.array(entry["temperatures"])
     expected = np.array([IAPWS95(T=t, x=0).P * MEGAPASCAL for t in temperatures])
@@ -65,7 +71,7 @@ def test_against_full_iapws95_saturation():
 
 
 def test_against_iapws_auxiliary_equation():
-    """p_sat and dp_sat/dT (complex step) equal the iapws implementation of SR1-86 to 1e-12."""
+    """p_sat and dp_sat/dT (complex step) equal the iapws 1.5 implementation of SR1-86 to 1e-12."""
     entry = REFERENCE["iapws_auxiliary_equation"]
     temperatures = np.array(entry["temperatures"])
     expected = np.array([IAPWS95._Vapor_Pressure(t) * MEGAPASCAL for t in temperatures])
@@ -91,7 +97,7 @@ def test_complex_step_matches_central_difference():
 
 
 def test_broadcasting_keeps_shape():
-    """A 2-D temperature array gives a 2-D result equal to element-wise evaluation."""
+    """Checks behaviour: a 2-D temperature array gives a 2-D result equal to element-wise evaluation."""
     temperatures = np.array([[280.0, 300.0, 320.0], [340.0, 360.0, 380.0]])
     grid = saturation_pressure_water(temperatures)
     assert grid.shape == temperatures.shape
@@ -100,7 +106,11 @@ def test_broadcasting_keeps_shape():
 
 
 def test_outside_range_still_evaluated_and_flagged():
-    """Below the triple point the formula value is returned; the validity helper flags it."""
+    """Checks behaviour: below the triple point the value is returned and the validity helper flags it.
+
+    That supercooled water's vapour pressure lies below the triple-point pressure is common practice;
+    the range 273.16 K to T_c is that of the Wagner-Pruss auxiliary equation (IAPWS SR1-86).
+    """
     below = 263.15
     assert np.isfinite(saturation_pressure_water(below))
     # Supercooled water has a lower vapour pressure than at the triple point.
@@ -113,7 +123,7 @@ def test_outside_range_still_evaluated_and_flagged():
 
 
 def test_molar_mass_water():
-    """M(H2O) from periodictable agrees with chemicals' 18.01528 g/mol to 5e-5."""
+    """M(H2O) from periodictable agrees with chemicals 1.5's 18.01528 g/mol to 5e-5."""
     entry = REFERENCE["molar_mass"]
     assert molar_mass_water() == MOLAR_MASS_WATER
     assert chemicals.MW("water") / 1000.0 == pytest.approx(entry["value"], rel=1e-9)
