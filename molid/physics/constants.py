@@ -11,6 +11,7 @@ __all__ = [
     "ZERO_CELSIUS",
     "CONVENTIONAL_MASS_DENSITY",
     "CONVENTIONAL_AIR_DENSITY",
+    "STANDARD_GRAVITY",
 ]
 
 #: Avogadro constant N_A [1/mol]; exact by definition (SI Brochure, 9th ed., 2019).
@@ -35,3 +36,6 @@ CONVENTIONAL_MASS_DENSITY = 8000.0
 
 #: Reference air density of the conventional mass [kg/m³] (OIML D 28:2004).
 CONVENTIONAL_AIR_DENSITY = 1.2
+
+#: Standard acceleration of free fall g_n [m/s²]; exact by definition (3rd CGPM, 1901).
+STANDARD_GRAVITY = 9.80665
