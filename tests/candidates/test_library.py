@@ -168,7 +168,7 @@ def _within(name, value, expected, tolerances):
 def test_values_agree_with_chemicals(library, tolerances, name):
     """Molar mass, Tc, Pc, omega, Tb and dipole agree with the chemicals database by CAS.
 
-    Source: chemicals (Caleb Bell et al.), looked up by CAS number; tolerances in
+    Source: chemicals 1.5 (Caleb Bell et al.), looked up by CAS number; tolerances in
     tests/reference_values.toml [library.chemicals_tolerances]. A larger difference
     must be listed in DOCUMENTED_DEVIATIONS and explained in the row's note.
     """
@@ -195,7 +195,7 @@ def test_values_agree_with_chemicals(library, tolerances, name):
 
 
 def test_formula_matches_chemicals_formula_for_the_cas_number(library):
-    """Each formula is the one chemicals files under the row's CAS (catches CAS typos)."""
+    """Each formula is the one chemicals 1.5 files under the row's CAS (catches CAS typos)."""
     failures = []
     for row in library[library["formula"] != ""].itertuples():
         theirs = atoms_to_Hill(simple_formula_parser(search_chemical(row.cas).formula))
@@ -220,21 +220,29 @@ def test_air_molar_mass_from_the_cipm_2007_composition(library, reference):
 
 
 def test_air_uncertainty_is_the_co2_variation_stated_in_its_note(library):
-    """u(M_air) = 12.011 g/mol x 0.0004 / sqrt(3), the CIPM-2007 CO2 slope (Picard et al. 2008)."""
+    """u(M_air) = 12.011 g/mol x 0.0004 / sqrt(3): x_CO2 anywhere in 0-800 µmol/mol.
+
+    Sources: the CIPM-2007 CO2 slope 12.011 g/mol (Picard et al., Metrologia 45 (2008) 149; from
+    memory) and a rectangular half-width a -> a/√3 (GUM, JCGM 100:2008, 4.3.7).
+    """
     row = library.loc[find_candidate(library, "air")]
     assert row.u_molar_mass * 1e3 == pytest.approx(12.011 * 0.0004 / math.sqrt(3), abs=1e-4)
     assert "√3" in row.note
 
 
 def test_library_size_and_required_substances(library):
-    """At least 80 entries, and every required substance is present by CAS number."""
+    """Checks behaviour: at least 80 entries, and every required substance is present by CAS number.
+
+    The CAS numbers are from memory; test_formula_matches_chemicals_formula_for_the_cas_number
+    checks each row's CAS against chemicals 1.5.
+    """
     assert len(library) >= 80
     missing = {name for name, cas in REQUIRED.items() if cas not in set(library["cas"])}
     assert not missing
 
 
 def test_no_duplicate_names_cas_or_lookup_keys(library):
-    """Names and CAS numbers are unique, and no name or alias could find two rows."""
+    """Checks behaviour: names and CAS numbers are unique, and no name or alias finds two rows."""
     assert not library["name"].str.casefold().duplicated().any()
     assert not library["cas"].duplicated().any()
     owners = {}
@@ -246,7 +254,11 @@ def test_no_duplicate_names_cas_or_lookup_keys(library):
 
 
 def test_polar_class_vocabulary_and_small_dipoles_explained(library):
-    """Every polar_class is in the vocabulary; weakly polar 'nonpolar' rows say so in the note."""
+    """Checks behaviour: polar_class is in the vocabulary; weakly polar 'nonpolar' rows say so.
+
+    That polar classes need a dipole above about 0.3 D is common practice for the Tsonopoulos
+    correlation (Tsonopoulos, AIChE J. 20 (1974) 263).
+    """
     assert set(library["polar_class"]) <= set(POLAR_CLASSES)
     weakly_polar = library[(library["polar_class"] == "nonpolar") & (library["dipole_moment"] > 0)]
     unexplained = [
@@ -266,13 +278,16 @@ def test_quantum_gases(library):
 
 
 def test_source_columns_filled(library):
-    """Every row names a source for its critical data, dipole moment and GHS classes."""
+    """Checks behaviour: every row names a source for its critical data, dipole moment and GHS classes."""
     for column in ("source_critical", "source_dipole", "source_ghs"):
         assert (library[column].str.strip() != "").all(), column
 
 
 def test_ghs_entries_are_hazard_classes(library):
-    """Every GHS entry is a GHS/CLP hazard class with its category (CLP Annex VI notation)."""
+    """Every GHS entry is a GHS/CLP hazard class with its category.
+
+    Source: the hazard-class abbreviations of Regulation (EC) No 1272/2008 (CLP), Annex VI (from memory).
+    """
     bad = [
         (row.name, entry)
         for row in library.itertuples()
@@ -314,7 +329,7 @@ def test_ghs_hazards_present_for_hazardous_gases(library):
 
 
 def test_stored_formulas_are_hill_and_molar_masses_blank():
-    """The data file stores Hill formulas and types no molar mass for a pure substance."""
+    """Checks behaviour: the data file stores Hill formulas and types no molar mass for a pure substance."""
     raw = pd.read_csv(DEFAULT_LIBRARY_PATH, dtype=str, keep_default_na=False)
     assert tuple(raw.columns) == FILE_COLUMNS
     pure = raw[raw["formula"] != ""]
@@ -340,7 +355,7 @@ def test_loaded_table_is_si(library):
 
 
 def test_cache_returns_independent_copies():
-    """Mutating a loaded table, its list cells included, does not change the next load."""
+    """Checks behaviour: mutating a loaded table, its list cells included, does not change the next load."""
     first = load_library()
     first.loc[0, "critical_temperature"] = -1.0
     first.loc[0, "aliases"].append("tampered")
@@ -359,7 +374,7 @@ def _write(tmp_path, lines, name="mine.csv"):
 
 
 def test_merge_replaces_by_name_or_cas_and_adds_new_rows(tmp_path, library):
-    """Merge: user rows replace default rows sharing a name or CAS; new rows are added."""
+    """Checks behaviour: user rows replace default rows sharing a name or CAS; new rows are added."""
     path = _write(tmp_path, [
         "name,formula,cas,critical_temperature_K,critical_pressure_MPa,acentric_factor",
         "Carbon Dioxide,CO2,124-38-9,304.0,7.38,0.225",
@@ -379,7 +394,7 @@ def test_merge_replaces_by_name_or_cas_and_adds_new_rows(tmp_path, library):
 
 
 def test_replace_mode_uses_only_the_user_file(tmp_path):
-    """Replace: the user file is the whole library; a formula-only row has no critical data."""
+    """Checks behaviour: in replace mode the user file is the whole library; a formula-only row has no Tc."""
     path = _write(tmp_path, ["name,formula", "krypton,Kr", "xenon,Xe"])
     replaced = load_library(path, mode="replace")
     assert list(replaced["name"]) == ["krypton", "xenon"]
@@ -388,7 +403,7 @@ def test_replace_mode_uses_only_the_user_file(tmp_path):
 
 
 def test_extra_candidates(library):
-    """--candidate FORMULA[=name] adds rows without critical data; M from periodictable.
+    """Checks behaviour: --candidate FORMULA[=name] adds rows without critical data; M from periodictable.
 
     Source: chemicals MW of formaldehyde (CAS 50-00-0).
     """
@@ -404,7 +419,7 @@ def test_extra_candidates(library):
 
 
 def test_extra_candidate_errors_are_collected():
-    """Bad --candidate strings are reported together, each quoted."""
+    """Checks behaviour: bad --candidate strings are reported together, each quoted."""
     with pytest.raises(LibraryError) as caught:
         load_library(extra_candidates=["Xy2", "CH4=carbon dioxide", "CO="])
     message = str(caught.value)
@@ -415,7 +430,7 @@ def test_extra_candidate_errors_are_collected():
 
 
 def test_validation_reports_every_problem_with_row_and_column(tmp_path):
-    """A broken user file yields one LibraryError naming each row (header = 1) and column."""
+    """Checks behaviour: a broken user file gives one LibraryError naming each row (header = 1) and column."""
     path = _write(tmp_path, [
         USER_HEADER,
         "gas a,CO2,124-38-9,,304,7.4,0.22,195,0,nonpolar,,,,,,,",         # row 2: fine
@@ -453,7 +468,7 @@ def test_validation_reports_every_problem_with_row_and_column(tmp_path):
 
 
 def test_validation_unknown_column_and_separator_hint(tmp_path):
-    """An unknown header is row 1; a semicolon-separated export gets a hint."""
+    """Checks behaviour: an unknown header is row 1; a semicolon-separated export gets a hint."""
     with pytest.raises(LibraryError, match=r"row 1, column 'boiling': unknown column"):
         load_library(_write(tmp_path, ["name,formula,boiling", "argon,Ar,87"]))
     with pytest.raises(LibraryError, match=r"row 1, column 'name': column appears more than once"):
@@ -463,7 +478,7 @@ def test_validation_unknown_column_and_separator_hint(tmp_path):
 
 
 def test_unreadable_files_are_library_errors(tmp_path):
-    """A missing, empty or ragged file is a LibraryError naming the file, not a crash."""
+    """Checks behaviour: a missing, empty or ragged file is a LibraryError naming the file, not a crash."""
     with pytest.raises(LibraryError, match="cannot be opened"):
         load_library(tmp_path / "absent.csv")
     with pytest.raises(LibraryError, match="the file is empty"):
@@ -473,7 +488,7 @@ def test_unreadable_files_are_library_errors(tmp_path):
 
 
 def test_validation_row_numbers_survive_blank_lines(tmp_path):
-    """Blank lines are skipped but still counted, as a spreadsheet shows them."""
+    """Checks behaviour: blank lines are skipped but still counted, as a spreadsheet shows them."""
     path = _write(tmp_path, ["name,formula", "argon,Ar", "", "bad,Qq"])
     with pytest.raises(LibraryError, match=r"row 4, column 'formula'"):
         load_library(path, mode="replace")
@@ -503,7 +518,11 @@ def test_validation_row_numbers_survive_blank_lines(tmp_path):
     ],
 )
 def test_find_candidate_by_name_alias_cas_formula(library, label, name):
-    """Labels a user types in an 'expected' column find the right row."""
+    """Checks behaviour: labels a user types in an 'expected' column find the right row.
+
+    Aliases (R-744, norflurane, R-600a) are the ASHRAE 34 refrigerant numbers and common names
+    (common practice).
+    """
     assert library.loc[find_candidate(library, label), "name"] == name
 
 
@@ -511,12 +530,15 @@ def test_find_candidate_by_name_alias_cas_formula(library, label, name):
     "label", ["C4H10", "C3H2F4", "C2H6O", "C4H8", "c4h10", "", "xyz", "Co", "no", "unobtainium"]
 )
 def test_find_candidate_ambiguous_or_unknown(library, label):
-    """Isomers by formula are ambiguous (None); Co is cobalt, not CO; 'no' is not NO."""
+    """Checks behaviour: isomers by formula are ambiguous (None); Co is cobalt, not CO; 'no' is not NO."""
     assert find_candidate(library, label) is None
 
 
 def test_search_library(library):
-    """Substring search over names/aliases/formulas/CAS and a molar-mass window [g/mol]."""
+    """Checks behaviour: substring search over names/aliases/formulas/CAS and a molar-mass window [g/mol].
+
+    That CO2, N2O, propane and ethylene oxide all lie near 44.0-44.1 g/mol is common practice.
+    """
     assert set(search_library(library, "butene")["name"]) == {
         "1-butene",
         "cis-2-butene",
