@@ -30,14 +30,14 @@ def mixed_file(tmp_path):
 
 
 def test_identify_all_good_exits_0(good_file, capsys):
-    """Every row analysed → exit 0 and a table naming each run."""
+    """Checks behaviour: every row analysed → exit 0 and a table naming each run."""
     assert main(["identify", str(good_file)]) == 0
     out = capsys.readouterr().out
     assert "a1" in out and "a2" in out and "carbon dioxide" in out
 
 
 def test_identify_json_contract(mixed_file, capsys):
-    """--json follows the documented keys; the bad row has error set and molar_mass null; exit 1."""
+    """Checks behaviour: --json has the documented keys; a bad row has error set, molar_mass null; exit 1."""
     assert main(["identify", str(mixed_file), "--json"]) == 1
     document = json.loads(capsys.readouterr().out)
     first, _, bad = document["results"]
@@ -57,7 +57,7 @@ def test_identify_json_contract(mixed_file, capsys):
 
 
 def test_json_is_deterministic(good_file, capsys):
-    """The same input gives byte-identical JSON."""
+    """Checks behaviour: the same input gives byte-identical JSON."""
     main(["identify", str(good_file), "--json"])
     first = capsys.readouterr().out
     main(["identify", str(good_file), "--json"])
@@ -65,7 +65,7 @@ def test_json_is_deterministic(good_file, capsys):
 
 
 def test_csv_is_deterministic(good_file, tmp_path):
-    """The same input gives byte-identical CSV."""
+    """Checks behaviour: the same input gives byte-identical CSV."""
     first, second = tmp_path / "one.csv", tmp_path / "two.csv"
     assert main(["identify", str(good_file), "-o", str(first)]) == 0
     assert main(["identify", str(good_file), "-o", str(second)]) == 0
@@ -73,7 +73,7 @@ def test_csv_is_deterministic(good_file, tmp_path):
 
 
 def test_csv_output_neutralises_formulas_and_keeps_columns(good_file, tmp_path):
-    """-o writes one row per run with the user's columns; formula cells arrive as text."""
+    """Checks behaviour: -o writes one row per run with the user's columns; formula cells arrive as text."""
     output = tmp_path / "out.csv"
     assert main(["identify", str(good_file), "-o", str(output)]) == 0
     rows = list(csv.DictReader(output.open(encoding="utf-8")))
@@ -84,7 +84,7 @@ def test_csv_output_neutralises_formulas_and_keeps_columns(good_file, tmp_path):
 
 
 def test_output_is_not_overwritten_without_force(good_file, tmp_path, capsys):
-    """An existing output needs --force; an input is never an output (exit 2, no traceback)."""
+    """Checks behaviour: an existing output needs --force; an input is never an output (exit 2)."""
     output = tmp_path / "out.csv"
     output.write_text("keep me", encoding="utf-8")
     assert main(["identify", str(good_file), "-o", str(output)]) == 2
@@ -96,7 +96,7 @@ def test_output_is_not_overwritten_without_force(good_file, tmp_path, capsys):
 
 
 def test_unreadable_file_exits_2_without_traceback(tmp_path, capsys):
-    """A missing file or a missing column is a usage error (exit 2) with a plain message."""
+    """Checks behaviour: a missing file or a missing column is a usage error (exit 2) with a plain message."""
     assert main(["identify", str(tmp_path / "nope.csv")]) == 2
     assert "no such file" in capsys.readouterr().err
     broken = tmp_path / "broken.csv"
@@ -107,7 +107,7 @@ def test_unreadable_file_exits_2_without_traceback(tmp_path, capsys):
 
 
 def test_usage_errors_exit_2(capsys):
-    """Unknown options and no command are usage errors."""
+    """Checks behaviour: unknown options and no command are usage errors."""
     with pytest.raises(SystemExit) as stop:
         main(["identify"])
     assert stop.value.code == 2
@@ -115,7 +115,7 @@ def test_usage_errors_exit_2(capsys):
 
 
 def test_version(capsys):
-    """--version prints the package version."""
+    """Checks behaviour: --version prints the package version."""
     with pytest.raises(SystemExit) as stop:
         main(["--version"])
     assert stop.value.code == 0
@@ -123,7 +123,7 @@ def test_version(capsys):
 
 
 def test_library_search(capsys):
-    """`molid library` filters by text and molar-mass window."""
+    """Checks behaviour: `molid library` filters by text and molar-mass window."""
     assert main(["library", "butane"]) == 0
     out = capsys.readouterr().out
     assert "n-butane" in out and "isobutane" in out

@@ -69,7 +69,7 @@ def run_files(draw):
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(run_files())
 def test_identify_never_crashes_and_accounts_for_every_row(case):
-    """Any file: a file-level InputError, or every row analysed or given an error naming it."""
+    """Checks behaviour: any file gives an InputError, or each row a result or an error naming it."""
     data, _ = case
     try:
         result = identify(io.BytesIO(data))
@@ -92,7 +92,7 @@ def test_identify_never_crashes_and_accounts_for_every_row(case):
 @settings(max_examples=60, deadline=None)
 @given(st.lists(st.sampled_from(NASTY), min_size=7, max_size=7))
 def test_every_bad_cell_is_named(cells):
-    """A row of nasty cells gets errors naming row 2 and a column; the good row is analysed."""
+    """Checks behaviour: nasty cells get errors naming row 2 and a column; the good row is analysed."""
     header = "run,method,mass_tare,mass_filled,volume,temperature,pressure"
     good = "ok,evacuated-bulb,150.0000,150.9050,500,21,100.8"
     bad = ",".join(f'"{item}"' for item in ["x", "syringe", *cells[2:]])

@@ -24,7 +24,7 @@ def _errors(text):
 
 
 def test_default_units_are_g_ml_degc_kpa():
-    """Without units: g, mL, degC, kPa, % (the documented defaults)."""
+    """Checks behaviour: without units a column is in g, mL, degC, kPa or % (the documented defaults)."""
     table = _read(f"{HEADER},humidity\n{GOOD},40\n")
     assert table.values["mass_tare"][0] == pytest.approx(0.150)
     assert table.values["volume"][0] == pytest.approx(500e-6)
@@ -34,7 +34,11 @@ def test_default_units_are_g_ml_degc_kpa():
 
 
 def test_units_in_brackets(reference):
-    """Header units parsed with pint: mmHg (133.322387415 Pa, common practice), degF, L, mg."""
+    """Header units parsed with pint: mmHg, degF, L, mg.
+
+    Sources: 1 mmHg = 133.322387415 Pa (common practice; reference_values.toml [measurement.mmhg]);
+    t/°C = (t/°F − 32)/1.8 (NIST SP 811, 2008 edition; from memory).
+    """
     mmhg = reference["measurement"]["mmhg"]["value"]
     text = ("Run,Method,Mass_Tare [mg],Mass Filled [mg],Volume [L],Temperature [degF],"
             "Pressure [mmHg]\n" "a,syringe,50000,49990,0.1,70,755\n")
@@ -46,7 +50,7 @@ def test_units_in_brackets(reference):
 
 
 def test_uncertainty_column_in_its_own_unit_or_the_columns():
-    """u_<name> takes the header's unit, else the measured column's (a degC u is a K difference)."""
+    """Checks behaviour: u_<name> takes its header's unit, else its column's (a degC u is a K difference)."""
     text = f"{HEADER},u_temperature,u_pressure [Pa]\n{GOOD},0.2,30\n"
     table = _read(text)
     assert table.uncertainties["temperature"][0] == pytest.approx(0.2)
@@ -54,7 +58,7 @@ def test_uncertainty_column_in_its_own_unit_or_the_columns():
 
 
 def test_semicolon_and_decimal_comma_with_bom():
-    """Semicolon-separated, decimal comma, UTF-8 with BOM (as saved by European spreadsheets)."""
+    """Checks behaviour: semicolons, decimal comma, UTF-8 with BOM (as European spreadsheets save)."""
     text = "\ufeffrun;method;mass_tare;mass_filled;volume;temperature;pressure\n" \
            "s1;evacuated-bulb;150,0000;150,5870;500;21,0;100,8\n"
     table = _read(text)
@@ -64,7 +68,7 @@ def test_semicolon_and_decimal_comma_with_bom():
 
 
 def test_xlsx_reads_like_csv(tmp_path):
-    """An .xlsx workbook gives the same values as the CSV."""
+    """Checks behaviour: an .xlsx workbook gives the same values as the CSV."""
     frame = pd.read_csv(io.StringIO(f"{HEADER}\n{GOOD}\n"), dtype=str)
     path = tmp_path / "runs.xlsx"
     frame.to_excel(path, index=False)
@@ -74,13 +78,13 @@ def test_xlsx_reads_like_csv(tmp_path):
 
 
 def test_stdin(monkeypatch):
-    """'-' reads standard input."""
+    """Checks behaviour: '-' reads standard input."""
     monkeypatch.setattr("sys.stdin", io.TextIOWrapper(io.BytesIO(f"{HEADER}\n{GOOD}\n".encode())))
     assert read_runs("-").ok.all()
 
 
 def test_humidity_default_is_50_percent_with_wide_uncertainty():
-    """No humidity column: 50 % RH with a wide stated uncertainty, and a note says so."""
+    """Checks behaviour: with no humidity column, 50 % RH with a wide uncertainty, and a note says so."""
     table = _read(f"{HEADER}\n{GOOD}\n")
     assert table.values["humidity"][0] == pytest.approx(0.5)
     assert table.uncertainties["humidity"][0] > 0.2
@@ -95,7 +99,7 @@ def test_humidity_default_is_50_percent_with_wide_uncertainty():
     (HEADER.replace("pressure", "pressure [g]") + "\n" + GOOD + "\n", "not a pressure unit"),
 ])
 def test_file_level_problems(text, message):
-    """Problems no row survives raise InputError with a message saying what and where."""
+    """Checks behaviour: problems no row survives raise InputError saying what and where."""
     with pytest.raises(InputError, match=message):
         _read(text)
 
@@ -114,7 +118,7 @@ def test_file_level_problems(text, message):
     ("b1,air-tare-bulb,150.0000,148.0000,500,21.0,100.8", "", "gas mass comes out"),
 ])
 def test_bad_rows_are_reported_and_the_rest_analysed(bad_row, column, fragment):
-    """Each bad row names its spreadsheet row and column; the good rows are still analysed."""
+    """Checks behaviour: each bad row names its spreadsheet row and column; good rows are still analysed."""
     text = f"{HEADER}\n{GOOD}\n{bad_row}\ng2,syringe,50.0000,49.9990,100,21.0,100.8\n"
     result, errors = _errors(text)
     assert errors[0] == "" and errors[2] == ""
@@ -126,7 +130,10 @@ def test_bad_rows_are_reported_and_the_rest_analysed(bad_row, column, fragment):
 
 
 def test_negative_syringe_difference_is_allowed():
-    """A syringe of helium weighs less when filled; that is normal (common practice)."""
+    """A syringe of helium weighs less when filled; that is normal (common practice).
+
+    Helium's molar mass 4.0026 g/mol (IUPAC, from memory) must come out of the 3.5-4.5 g/mol window.
+    """
     result, errors = _errors(f"{HEADER}\ng2,syringe,50.0000,49.8970,100,21.0,100.8\n")
     assert errors == [""]
     assert 3.5e-3 < result.molar_mass[0] < 4.5e-3
@@ -138,7 +145,10 @@ def test_negative_syringe_difference_is_allowed():
     ("pressure", "1.0", "atm"),
 ])
 def test_suspicious_values_warn(header_unit, value, hint):
-    """A 'K' column holding 15-35, or 'kPa' holding ~750 or ~1, warns with the likely unit."""
+    """Checks behaviour: a 'K' column holding 15-35, or 'kPa' holding ~750 or ~1, warns with the likely unit.
+
+    The likely units are common practice: room temperature 15-35 degC, room pressure ~750 mmHg or ~1 atm.
+    """
     name = header_unit.split(" ")[0]
     columns = HEADER.split(",")
     cells = GOOD.split(",")
@@ -149,13 +159,13 @@ def test_suspicious_values_warn(header_unit, value, hint):
 
 
 def test_implausible_density_warns():
-    """A molar mass below hydrogen's warns (checks mass and volume units)."""
+    """Checks behaviour: a molar mass below hydrogen's (2.016 g/mol, common practice) warns."""
     result, _ = _errors(f"{HEADER}\nx,evacuated-bulb,150.0000,150.0010,500,21.0,100.8\n")
     assert any("lighter than hydrogen" in w for w in result.warnings[0])
 
 
 def test_blank_lines_keep_spreadsheet_row_numbers():
-    """Blank lines are skipped but later rows keep the numbers a spreadsheet shows."""
+    """Checks behaviour: blank lines are skipped but later rows keep the numbers a spreadsheet shows."""
     text = f"{HEADER}\n{GOOD}\n\nb1,evacuated-bulb,150.0000,abc,500,21.0,100.8\n"
     table = _read(text)
     assert list(table.row_numbers) == [2, 4]
@@ -163,13 +173,13 @@ def test_blank_lines_keep_spreadsheet_row_numbers():
 
 
 def test_user_columns_are_kept():
-    """Columns molid does not use are kept as the user wrote them."""
+    """Checks behaviour: columns molid does not use are kept as the user wrote them."""
     table = _read(f"{HEADER},operator\n{GOOD},=cmd|' /C calc'!A0\n")
     assert table.raw["operator"].iat[0] == "=cmd|' /C calc'!A0"
 
 
 def test_humidity_uncertainty_above_100_percent_is_an_error():
-    """u_humidity of 200 % names its row and column; the next row is analysed."""
+    """Checks behaviour: u_humidity of 200 % names its row and column; the next row is analysed."""
     result, errors = _errors(f"{HEADER},humidity,u_humidity\n{GOOD},40,200\n"
                              "g2,evacuated-bulb,150.0000,150.5870,500,21.0,100.8,40,5\n")
     assert "row 2, column 'u_humidity'" in errors[0] and errors[1] == ""

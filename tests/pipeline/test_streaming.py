@@ -30,7 +30,7 @@ def run_file(tmp_path_factory):
 
 @pytest.mark.parametrize("workers", [1, 2])
 def test_chunked_output_equals_in_memory_output(run_file, tmp_path, workers):
-    """Chunks of 700 rows, in one process or two, write exactly the in-memory path's bytes."""
+    """Checks behaviour: chunks of 700 rows, in one process or two, write the in-memory path's bytes."""
     streamed = tmp_path / "streamed.csv"
     summary = identify_to_csv(run_file, streamed, chunk_rows=700, progress=False, workers=workers)
     in_memory = to_csv(identify(run_file))
@@ -40,7 +40,7 @@ def test_chunked_output_equals_in_memory_output(run_file, tmp_path, workers):
 
 
 def test_duplicate_found_across_chunks(run_file, tmp_path):
-    """A run id reused 1,500 rows later is an error naming the first row (header = row 1)."""
+    """Checks behaviour: a run id reused 1,500 rows later is an error naming the first row (header = 1)."""
     summary = identify_to_csv(run_file, tmp_path / "out.csv", chunk_rows=500, progress=False,
                               workers=2)
     duplicate = [message for message in summary.errors if "duplicate" in message]
@@ -49,7 +49,7 @@ def test_duplicate_found_across_chunks(run_file, tmp_path):
 
 
 def test_rows_in_equal_rows_out(run_file, tmp_path):
-    """Every input row has one output row, in order, good or bad."""
+    """Checks behaviour: every input row has one output row, in order, good or bad."""
     out = tmp_path / "out.csv"
     identify_to_csv(run_file, out, chunk_rows=900, progress=False)
     import pandas as pd
@@ -62,7 +62,7 @@ def test_rows_in_equal_rows_out(run_file, tmp_path):
 
 
 def test_cli_streams_large_files(run_file, tmp_path, monkeypatch, capsys):
-    """The CLI switches to chunks above one chunk of rows and prints a summary (exit 1: bad rows)."""
+    """Checks behaviour: the CLI streams above one chunk of rows and prints a summary (exit 1: bad rows)."""
     monkeypatch.setattr("molid.pipeline.streaming.DEFAULT_CHUNK_ROWS", 600)
     out = tmp_path / "cli.csv"
     assert main(["identify", str(run_file), "-o", str(out)]) == 1
@@ -72,7 +72,7 @@ def test_cli_streams_large_files(run_file, tmp_path, monkeypatch, capsys):
 
 
 def test_failed_run_leaves_no_partial_output(tmp_path):
-    """A file that cannot be used leaves neither an output nor a temporary file."""
+    """Checks behaviour: a file that cannot be used leaves neither an output nor a temporary file."""
     bad = tmp_path / "bad.csv"
     bad.write_text("run,method\nx,syringe\n", encoding="utf-8")
     out = tmp_path / "out.csv"
@@ -82,7 +82,7 @@ def test_failed_run_leaves_no_partial_output(tmp_path):
 
 
 def test_help_starts_without_heavy_imports():
-    """`molid --help` imports neither pandas, pint, matplotlib nor fpdf (start-up under 0.5 s)."""
+    """Checks behaviour: `molid --help` imports neither pandas, pint, matplotlib nor fpdf (under 0.5 s)."""
     code = ("import sys; from molid.cli import main\n"
             "try:\n    main(['--help'])\nexcept SystemExit:\n    pass\n"
             "print(sorted(m for m in ('pandas', 'pint', 'matplotlib', 'fpdf', 'scipy') "
