@@ -1,4 +1,4 @@
-"""Shared test helpers: the reference-values file and a simulator of balance readings."""
+"""Shared test fixtures: the reference values with their provenance (tests/reference_values.toml)."""
 
 import sys
 from pathlib import Path
