@@ -134,12 +134,8 @@ def combine_replicates(sample, value, u, shared_contributions: dict, ok) -> pd.D
 
     References
     ----------
-    R. T. Birge, Phys. Rev. 40 (1932) 207-227.
-
-    P. J. Mohr, D. B. Newell, B. N. Taylor, Rev. Mod. Phys. 88 (2016) 035009 (Birge ratio).
-
-    JCGM 100:2008 (GUM), 5.2.2: a shared input is fully correlated between runs, so
-    its contribution is not divided by √n.
+    R. T. Birge, Phys. Rev. 40 (1932) 207-227; Mohr, Newell, Taylor, Rev. Mod. Phys. 88
+    (2016) 035009 (Birge ratio); GUM 5.2.2 (a shared input is fully correlated between runs).
     """
     ok = np.asarray(ok, dtype=bool)
     sample = np.asarray(sample, dtype=object)
