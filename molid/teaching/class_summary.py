@@ -25,10 +25,14 @@ __all__ = [
 ]
 
 #: Consistency constant of the median absolute deviation for a normal
-#: distribution, 1/Φ⁻¹(3/4) = 1.4826 (Rousseeuw and Croux 1993).
+#: distribution, 1/Φ⁻¹(3/4) = 1.4826 (Rousseeuw and Croux 1993); ISO 13528:2015,
+#: Annex C, prints it as 1.483 in MADe = 1.483·MAD.
 MAD_SCALE = 1.0 / NormalDist().inv_cdf(0.75)
-#: A run is an outlier of its group when its robust z exceeds this in size
-#: (Iglewicz and Hoaglin 1993 recommend 3.5 for the modified z-score).
+#: A run is an outlier of its group when its robust z exceeds this in size:
+#: Iglewicz and Hoaglin (1993) flag modified z-scores above 3.5. The robust z
+#: here is their modified z-score (the group's own median and MADe), so their
+#: limit applies; ISO 13528:2015's action signal |z| ≥ 3.0 is for proficiency-test
+#: scores against a standard deviation for proficiency assessment set beforehand.
 OUTLIER_LIMIT = 3.5
 #: Fewer values than this give no outliers: with three or four, the MAD rests on
 #: one or two gaps and any uneven spacing looks extreme.
@@ -78,6 +82,8 @@ def robust_spread(values) -> float:
     P. J. Rousseeuw and C. Croux, "Alternatives to the median absolute
     deviation", J. Am. Stat. Assoc. 88 (1993) 1273-1283,
     doi:10.1080/01621459.1993.10476408.
+    ISO 13528:2015, Statistical methods for use in proficiency testing by
+    interlaboratory comparison, Annex C (MADe, the scaled median absolute deviation).
 
     Examples
     --------
@@ -116,6 +122,9 @@ def robust_z(values) -> np.ndarray:
     B. Iglewicz and D. C. Hoaglin, How to Detect and Handle Outliers, ASQC
     Basic References in Quality Control vol. 16 (ASQC Quality Press, Milwaukee,
     1993), chapter 3.
+    ISO 13528:2015, Statistical methods for use in proficiency testing by
+    interlaboratory comparison, z scores and Annex C (median and MADe as
+    robust location and spread).
 
     Examples
     --------
