@@ -132,7 +132,11 @@ def _diagnosed(rows):
 
 @pytest.mark.parametrize("method", METHODS)
 def test_correct_runs_have_no_diagnosis(method):
-    """Correct ideal-gas arithmetic on CoolProp-simulated readings gives an empty diagnosis."""
+    """Correct ideal-gas arithmetic on CoolProp-simulated readings gives an empty diagnosis.
+
+    Readings from CoolProp's reference equations of state and humid-air model; the
+    student's sum uses R = 8.314 462 618 J/(mol·K) (SI Brochure 2019).
+    """
     rng = np.random.default_rng(11)
     rows = []
     for number, gas in enumerate(GASES):
@@ -147,7 +151,14 @@ def test_correct_runs_have_no_diagnosis(method):
 @pytest.mark.parametrize("method", METHODS)
 @pytest.mark.parametrize("mistake", MISTAKE_CODES)
 def test_each_planted_mistake_gets_its_code(mistake, method):
-    """Every way of making each mistake, on every method, is diagnosed with its code."""
+    """Every way of making each mistake, on every method, is diagnosed with its code.
+
+    Readings from CoolProp; each mistake planted in the student's own sum
+    (``student_result``) with the defined units: 1 atm = 101.325 kPa (CGPM 1954),
+    760 mmHg = 1 atm and 1 bar = 100 kPa (common practice), R = 8.314 462 618
+    J/(mol·K) (SI Brochure 2019), 1 cal = 4.184 J. Worked cases with every number
+    written out are in test_worked_cases.py.
+    """
     if mistake == "no-buoyancy" and method == "evacuated-bulb":
         pytest.skip("an evacuated bulb displaces the same air at both weighings")
     rng = np.random.default_rng(zlib.crc32(f"{mistake} {method}".encode()))
@@ -170,7 +181,10 @@ def test_each_planted_mistake_gets_its_code(mistake, method):
 
 
 def test_volume_in_litres_used_as_millilitres():
-    """A volume column in litres, used as if in mL, is a volume-unit mistake (reverse case)."""
+    """A volume column in litres, used as if in mL, is a volume-unit mistake (reverse case).
+
+    1 L = 1000 mL (SI Brochure 2019); readings from CoolProp for argon.
+    """
     rng = np.random.default_rng(5)
     cells, rho_air = simulate_run(rng, "argon", "evacuated-bulb")
     value = student_result(cells, rho_air) * 1000.0  # V in L taken as mL: 1000 times too big
@@ -181,7 +195,10 @@ def test_volume_in_litres_used_as_millilitres():
 
 
 def test_unexplained_slip():
-    """A result 12 % off its own readings, by no classic mistake, is 'unexplained'."""
+    """A result 12 % off its own readings, by no classic mistake, is 'unexplained'.
+
+    Checks behaviour: a slip that no variant reproduces gets the catch-all code and words.
+    """
     rng = np.random.default_rng(7)
     rows = []
     for number, gas in enumerate(("carbon dioxide", "sulfur hexafluoride", "argon")):
@@ -195,7 +212,10 @@ def test_unexplained_slip():
 
 
 def test_student_words_name_the_mistake():
-    """The student sheet text says what was done (°C for K), in plain words."""
+    """The student sheet text says what was done (°C for K), in plain words.
+
+    Checks behaviour: the wording of a diagnosis.
+    """
     rng = np.random.default_rng(8)
     cells, rho_air = simulate_run(rng, "argon", "syringe")
     value = student_result(cells, rho_air, "celsius-as-kelvin")
@@ -207,7 +227,10 @@ def test_student_words_name_the_mistake():
 
 
 def test_no_reported_value_no_diagnosis():
-    """Without a reported value there is nothing to diagnose: an empty list."""
+    """Without a reported value there is nothing to diagnose: an empty list.
+
+    Checks behaviour.
+    """
     rng = np.random.default_rng(9)
     cells, _ = simulate_run(rng, "oxygen", "syringe")
     grades = _diagnosed([{"run": "n", "expected": "oxygen", **cells}])
@@ -235,7 +258,10 @@ def test_written_resolution_reads_the_last_digit():
 
 
 def test_mistake_model_correct_variant_is_the_measurement_model():
-    """With no mistake, the mistake model reproduces molid's measurement model exactly."""
+    """With no mistake, the mistake model reproduces molid's measurement model exactly.
+
+    Checks behaviour: the diagnosis's correct variant is the identify pipeline's model.
+    """
     rng = np.random.default_rng(12)
     rows = []
     for number, method in enumerate(METHODS * 3):
@@ -254,7 +280,12 @@ def test_mistake_model_correct_variant_is_the_measurement_model():
 
 
 def test_pressure_and_gas_constant_factors_from_definitions(reference):
-    """The variants' unit factors are the defined ratios of atm, mmHg, kPa, bar and R values."""
+    """The variants' unit factors are the defined ratios of atm, mmHg, kPa, bar and R values.
+
+    Sources in tests/reference_values.toml [grading]: CGPM 1954 Resolution 4
+    (standard atmosphere), the SI Brochure's tables of non-SI units (mmHg, bar) and
+    R in L·atm, L·Torr and cal units (from memory).
+    """
     units = reference["grading"]["pressure_units"]
     constants = reference["grading"]["gas_constant_other_units"]
     kpa = {"kPa": 1.0, "atm": units["atm_kPa"], "mmHg": units["atm_kPa"] / units["mmHg_per_atm"],
@@ -274,7 +305,10 @@ def test_pressure_and_gas_constant_factors_from_definitions(reference):
 
 
 def test_rows_with_errors_are_not_diagnosed():
-    """A run that cannot be evaluated gets no diagnosis, and the others still do."""
+    """A run that cannot be evaluated gets no diagnosis, and the others still do.
+
+    Checks behaviour: a bad row is named and does not stop the others.
+    """
     rng = np.random.default_rng(13)
     cells, rho_air = simulate_run(rng, "argon", "syringe")
     wrong = student_result(cells, rho_air, "celsius-as-kelvin")

@@ -1,7 +1,9 @@
 """Grading a lab section: rubric arithmetic, bad input, exports, summary and a fresh random class.
 
-Runs are simulated from CoolProp densities and the students' results computed by
-a student's own arithmetic (see tests/test_diagnosis.py), independent of molid.
+Runs are simulated from CoolProp densities (reference equations of state) and the
+students' results computed by a student's own arithmetic (see
+tests/teaching/test_diagnosis.py), independent of molid. Tests of the rubric,
+files and messages check molid's own behaviour and say so.
 """
 
 import csv
@@ -25,6 +27,7 @@ from molid.teaching.rubric import RubricError, load_rubric
 test_diagnosis = pytest.importorskip("test_diagnosis")
 GASES, PLANTS = test_diagnosis.GASES, test_diagnosis.PLANTS
 simulate_run, student_result = test_diagnosis.simulate_run, test_diagnosis.student_result
+PropsSI = test_diagnosis.PropsSI
 scipy_stats = pytest.importorskip("scipy.stats")
 
 GRADE_KEYS = {"expected", "percent_error", "in_interval", "expected_rank", "expected_z",
@@ -68,7 +71,13 @@ def _frame(rows):
 
 @pytest.mark.parametrize("seed", [20261201, 7319, 424242])
 def test_fresh_random_section(seed):
-    """Random section and mistakes: every planted mistake has its code, no correct run has one."""
+    """Random section and mistakes: every planted mistake has its code, no correct run has one.
+
+    Readings from CoolProp's reference equations of state; each mistake planted by
+    the student's arithmetic in test_diagnosis.py (constants from SI Brochure 2019,
+    CGPM 1954). The k = 2 intervals of noise-free readings hold the true value in
+    about 95 % of runs (JCGM 100:2008, 6.2).
+    """
     rows, planted = random_section(seed)
     assert any(planted) and not all(planted)
     graded = grade(_frame(rows)).grades
@@ -82,7 +91,11 @@ def test_fresh_random_section(seed):
 
 
 def test_fresh_section_writes_grades_and_plots(tmp_path):
-    """The command writes a grades CSV with the planted codes, and PNG and SVG plots."""
+    """The command writes a grades CSV with the planted codes, and PNG and SVG plots.
+
+    Checks behaviour: the files the command writes. The PNG signature is that of
+    the PNG specification (W3C Recommendation 2003, ISO/IEC 15948:2004), 5.2; from memory.
+    """
     rows, planted = random_section(90125, runs=16)
     path = tmp_path / "section.csv"
     _frame(rows).to_csv(path, index=False)
@@ -104,7 +117,10 @@ def test_fresh_section_writes_grades_and_plots(tmp_path):
 # -- rubric ---------------------------------------------------------------------------------
 
 def test_rubric_band_arithmetic():
-    """Band edges belong to the band; beyond the last band the 'beyond' points (hand-computed)."""
+    """Band edges belong to the band; beyond the last band the 'beyond' points.
+
+    Checks behaviour: the rubric's band arithmetic, worked by hand.
+    """
     rubric = load_rubric({"percent_error": {"bands": [{"up_to": 1, "points": 50},
                                                       {"up_to": 5, "points": 20}],
                                             "beyond": 5}})
@@ -118,7 +134,10 @@ def test_rubric_band_arithmetic():
        points=st.lists(st.floats(0, 100), min_size=7, max_size=7),
        errors=st.lists(st.floats(-200, 200), min_size=2, max_size=20))
 def test_band_points_never_reward_a_larger_error(limits, points, errors):
-    """For any valid rubric, a larger percent error never earns more points (property)."""
+    """For any valid rubric, a larger percent error never earns more points.
+
+    Checks behaviour: a property of the rubric, over rubrics drawn by hypothesis.
+    """
     limits = sorted(limits)
     values = sorted(points, reverse=True)[: len(limits) + 1]
     rubric = load_rubric({"percent_error": {
@@ -133,7 +152,12 @@ def test_band_points_never_reward_a_larger_error(limits, points, errors):
 
 
 def test_points_add_up(tmp_path):
-    """Points are band + identification − smallest deduction, never below 0 (by hand)."""
+    """Points are band + identification − smallest deduction, never below 0.
+
+    Checks behaviour: the rubric's sums, worked by hand. The CO2 run's ideal-gas
+    error is 1/Z − 1 with Z from CoolProp's reference equation of state for CO2
+    (R. Span and W. Wagner, J. Phys. Chem. Ref. Data 25 (1996) 1509).
+    """
     rng = np.random.default_rng(3)
     rows = []
     for number, (gas, mistake) in enumerate([("argon", None), ("argon", "celsius-as-kelvin"),
@@ -154,8 +178,14 @@ def test_points_add_up(tmp_path):
     # °C as K: about -93 %, beyond the bands, not identified as argon, minus 15 -> floor 0
     assert grades.at["p1", "diagnosis"] == ["celsius-as-kelvin"]
     assert grades.at["p1", "points"] == 0
-    # CO2 with the ideal gas law is 0.5 % high at room conditions (Z = 0.995, PHYSICS note):
-    # the graded error discounts the non-ideality, so it earns the top band
+    # CO2 with the ideal gas law is high by 1/Z - 1, about 0.5 % at room conditions (Span and
+    # Wagner 1996, via CoolProp): the graded error discounts the non-ideality -> top band
+    co2 = rows[2]
+    compressibility = PropsSI("Z", "T", float(co2["temperature [degC]"]) + 273.15,
+                              "P", float(co2["pressure [kPa]"]) * 1e3, "CarbonDioxide")
+    # readings rounded to 0.1 mg on about 0.45 g of gas, the result to 5 figures: < 0.05 %
+    assert grades.at["p2", "percent_error"] == pytest.approx(100 * (1 / compressibility - 1),
+                                                             abs=0.05)
     assert grades.at["p2", "percent_error"] > 0.3
     assert grades.at["p2", "graded_percent_error"] < 0.1
     assert grades.at["p2", "points"] == 60
@@ -168,8 +198,11 @@ def test_points_add_up(tmp_path):
 def test_interval_and_rank_of_the_true_gas():
     """The true gas's interval uses its Z; a wrong key is out of the interval and ranked low.
 
-    Butane's ideal-gas value is 3 % high (PHYSICS note, CoolProp) yet its interval
-    holds the true M; argon keyed as oxygen is excluded.
+    Butane's ideal-gas value is high by 1/Z − 1, about 3 % at room conditions (Z
+    from CoolProp's reference equation of state for n-butane, D. Bücker and
+    W. Wagner, J. Phys. Chem. Ref. Data 35 (2006) 929), yet its interval holds the
+    true M; argon keyed as oxygen is excluded (argon's M from IUPAC standard atomic
+    weights is 39.95 g/mol, oxygen's 32.00 g/mol).
     """
     rng = np.random.default_rng(15)
     butane, rho_butane = simulate_run(rng, "n-butane", "evacuated-bulb")
@@ -181,6 +214,11 @@ def test_interval_and_rank_of_the_true_gas():
          "reported_molar_mass": f"{student_result(argon, rho_argon):#.5g}"},
     ]), rubric={"identification": {"among": "library"}}).grades.set_index("run")
     ideal_high = (grades.at["b", "molar_mass"] - grades.at["b", "true_molar_mass"])
+    compressibility = PropsSI("Z", "T", float(butane["temperature [degC]"]) + 273.15,
+                              "P", float(butane["pressure [kPa]"]) * 1e3, "n-Butane")
+    # readings rounded to 0.1 mg on about 0.6 g of gas: under 2e-4 of M
+    assert ideal_high / grades.at["b", "true_molar_mass"] == pytest.approx(
+        1 / compressibility - 1, abs=3e-4)
     assert ideal_high / grades.at["b", "true_molar_mass"] > 0.02
     assert ideal_high > grades.at["b", "U"]  # the ideal-gas interval misses it
     assert bool(grades.at["b", "in_interval"]) and grades.at["b", "expected_rank"] <= 2
@@ -194,7 +232,7 @@ def test_interval_and_rank_of_the_true_gas():
 def test_carry_forward_grades_the_recomputed_result():
     """With carry_forward, a diagnosed run earns the recomputed result's points less the deduction.
 
-    Default rubric, hand computation.
+    Checks behaviour: the default rubric's sum, by hand.
     """
     rng = np.random.default_rng(4)
     cells, rho_air = simulate_run(rng, "argon", "evacuated-bulb")
@@ -221,7 +259,10 @@ def test_carry_forward_grades_the_recomputed_result():
     ("[grading]\npoints = 1\n", "[grading]"),
 ])
 def test_bad_rubric_names_the_key(tmp_path, content, key):
-    """A rubric with a bad value is refused with a message naming the key."""
+    """A rubric with a bad value is refused with a message naming the key.
+
+    Checks behaviour: the rubric reader's messages.
+    """
     path = tmp_path / "rubric.toml"
     path.write_text(content, encoding="utf-8")
     with pytest.raises(RubricError, match=key.replace("[", r"\[").replace("]", r"\]")):
@@ -229,7 +270,10 @@ def test_bad_rubric_names_the_key(tmp_path, content, key):
 
 
 def test_bad_rubric_on_the_command_line(tmp_path, capsys):
-    """The CLI reports a bad rubric without a traceback and exits 2."""
+    """The CLI reports a bad rubric without a traceback and exits 2.
+
+    Checks behaviour: the command's exit status and message.
+    """
     rows, _ = random_section(5, runs=3, share=0)
     runs = tmp_path / "runs.csv"
     _frame(rows).to_csv(runs, index=False)
@@ -244,7 +288,7 @@ def test_bad_rubric_on_the_command_line(tmp_path, capsys):
 def test_key_file_and_row_problems(tmp_path, capsys):
     """Bad rows (unknown identity, sample not in the key, no readings) are named; others graded.
 
-    Key identities are given by formula or by name.
+    Checks behaviour: the row messages. Key identities are given by formula or by name.
     """
     rng = np.random.default_rng(6)
     rows = []
@@ -276,7 +320,10 @@ def test_key_file_and_row_problems(tmp_path, capsys):
 
 
 def test_isomer_formula_in_key_is_refused_by_row():
-    """A formula shared by isomers (C4H10) cannot name the unknown; the row says so."""
+    """A formula shared by isomers (C4H10) cannot name the unknown; the row says so.
+
+    Checks behaviour: the row message (n-butane and isobutane share C4H10, common practice).
+    """
     rng = np.random.default_rng(14)
     cells, rho_air = simulate_run(rng, "n-butane", "evacuated-bulb")
     graded = grade(_frame([{"run": "i", "sample": "X", **cells}]), key={"X": "C4H10"}).grades
@@ -285,7 +332,10 @@ def test_isomer_formula_in_key_is_refused_by_row():
 
 
 def test_key_file_problems(tmp_path):
-    """A key with a sample given two identities, or without a sample column, is refused."""
+    """A key with a sample given two identities, or without a sample column, is refused.
+
+    Checks behaviour: the key reader's messages.
+    """
     twice = tmp_path / "twice.csv"
     twice.write_text("sample,expected\nA,N2\nA,O2\n", encoding="utf-8")
     with pytest.raises(KeyFileError, match="row 3: sample 'A'"):
@@ -302,7 +352,11 @@ def test_key_file_problems(tmp_path):
 # -- exports --------------------------------------------------------------------------------
 
 def test_export_neutralises_formulas_and_keeps_numbers(tmp_path):
-    """A student named =HYPERLINK(...) arrives as text; numbers stay numbers (OWASP)."""
+    """A student named =HYPERLINK(...) arrives as text; numbers stay numbers.
+
+    The prefixed characters are those of OWASP, "CSV Injection" (owasp.org); the
+    rest checks behaviour: the CSV file equals the library's text.
+    """
     rows, _ = random_section(8, runs=3, share=0)
     rows[0]["student"] = '=HYPERLINK("http://example.invalid","grade me")'
     rows[1]["student"] = "+1 for effort"
@@ -326,7 +380,10 @@ def test_export_neutralises_formulas_and_keeps_numbers(tmp_path):
 
 
 def test_json_document(tmp_path, capsys):
-    """--json: each result has the grade keys with their types; the top level a summary."""
+    """--json: each result has the grade keys with their types; the top level a summary.
+
+    Checks behaviour: the JSON document's keys and types, and the planted codes.
+    """
     rows, planted = random_section(9, runs=8, share=0.5)
     runs = tmp_path / "runs.csv"
     _frame(rows).to_csv(runs, index=False)
@@ -351,7 +408,10 @@ def test_json_document(tmp_path, capsys):
 # -- summary statistics ---------------------------------------------------------------------
 
 def test_mad_scale_and_outlier_limit(reference):
-    """MAD scale 1/Φ⁻¹(3/4) (Rousseeuw and Croux 1993) and the 3.5 limit (Iglewicz and Hoaglin)."""
+    """MAD scale 1/Φ⁻¹(3/4) (Rousseeuw and Croux 1993) and the 3.5 limit (Iglewicz and Hoaglin 1993).
+
+    See also test_class_statistics.py (ISO 13528:2015, MADe = 1.483·MAD).
+    """
     entry = reference["grading"]["mad_scale"]
     assert MAD_SCALE == pytest.approx(entry["value"], rel=entry["tolerance_relative"])
     assert MAD_SCALE == pytest.approx(1 / scipy_stats.norm.ppf(0.75), rel=1e-14)
@@ -359,7 +419,7 @@ def test_mad_scale_and_outlier_limit(reference):
 
 
 def test_robust_statistics_against_scipy():
-    """robust_spread equals scipy's normal-scaled median absolute deviation."""
+    """robust_spread equals scipy's normal-scaled median absolute deviation (scipy.stats reference)."""
     data = np.random.default_rng(1).standard_t(3, size=41) * 2.0 + 0.7
     assert robust_spread(data) == pytest.approx(
         scipy_stats.median_abs_deviation(data, scale="normal"), rel=1e-12)
@@ -369,7 +429,11 @@ def test_robust_statistics_against_scipy():
 
 
 def test_summary_against_hand_computation():
-    """Counts, medians, spreads, identifications, outliers and diagnoses per group, by hand."""
+    """Counts, medians, spreads, identifications, outliers and diagnoses per group, by hand.
+
+    Checks behaviour: the grouping and counting, worked by hand; the spread is
+    checked against scipy.stats.median_abs_deviation (scale="normal").
+    """
     frame = pd.DataFrame({
         "run": [f"r{i}" for i in range(8)],
         "student": [f"s{i}" for i in range(8)],
@@ -410,7 +474,10 @@ def test_summary_against_hand_computation():
 
 
 def test_demo_section_runs(tmp_path):
-    """The demo teaching section grades with the key: every planted demo mistake found."""
+    """The demo teaching section grades with the key: every planted demo mistake found.
+
+    Checks behaviour: the demo data's planted mistakes (sample_runs/make_demo_data.py).
+    """
     from pathlib import Path
 
     root = Path(__file__).resolve().parents[2] / "sample_runs"
