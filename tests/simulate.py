@@ -1,10 +1,12 @@
 """Simulated weighings built from reference equations of state (CoolProp), for tests.
 
-The forward model is each method's simulator of what a balance would show (the
-glass and the displaced air enter both readings; an evacuated bulb displaces the
-same air at both weighings; a bulb tared full of air loses that air's mass when it
-is filled; a syringe displaces V more air when drawn; a balance adjusted with
-8000 kg/m³ steel weights indicates a load m as m/(1 − ρ_a/8000), OIML D 28:2004).
+The forward model is each method's simulator of what a balance would show, written
+from the forces on the pan apart from the model's algebra: the glass and the air
+the vessel displaces enter both readings; an evacuated bulb displaces the same air
+at both weighings; a bulb tared full of air loses that air's mass when it is
+filled; a syringe displaces V more air when drawn; the indication is the mass of
+8000 kg/m³ reference weights whose weight less their buoyancy equals the net
+downward force (OIML R 111-1:2004, D 28:2004).
 Gas densities come from CoolProp's reference equations of state and the air
 density from CoolProp's humid-air model (ASHRAE RP-1485), independent of molid's
 own CIPM-2007 code.

@@ -13,7 +13,8 @@ OIML D 28:2004, Conventional value of the result of weighing in air.
 
 from __future__ import annotations
 
-from molid.methods.base import DEFAULT_GLASS_MASS, Method, balance_indication, conventional_mass_factor
+from molid.methods.base import DEFAULT_GLASS_MASS, Method, conventional_mass_factor
+from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
 
 __all__ = ["METHOD", "gas_mass", "simulate_readings"]
 
@@ -46,7 +47,11 @@ def gas_mass(mass_tare, mass_filled, volume, air_density):
 
 
 def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MASS, outer_volume=None):
-    """Simulate the indications of an ideal balance for the evacuated and the filled bulb [kg].
+    r"""Simulate the indications of an ideal balance for the evacuated and the filled bulb [kg].
+
+    Written from the forces on the pan, apart from the model's algebra (no helper
+    of the model is called), so that a slip shared by both would show as a
+    failed round trip.
 
     Parameters
     ----------
@@ -65,12 +70,45 @@ def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MA
     -------
     tuple of numpy.ndarray
         Tare and filled indications [kg].
+
+    Notes
+    -----
+    Downward forces on the pan, divided by g: the glass, :math:`m_g`; the gas,
+    :math:`m` (filled only; the evacuated bulb holds nothing); the buoyancy of the
+    air the closed bulb displaces, :math:`-\rho_a V_{ext}` (both weighings). The
+    balance is adjusted with reference weights of density ρ_c = 8000 kg/m³
+    (OIML R 111-1:2004): it indicates I when weights of mass I, whose volume is
+    I/ρ_c, would pull the pan with the same net force,
+
+    .. math:: I - \rho_a I/\rho_c = F/g
+              \quad\Rightarrow\quad I = \frac{F}{g}\,\frac{\rho_c}{\rho_c - \rho_a}.
+
+    With :math:`F_0/g = m_g - \rho_a V_{ext}` and :math:`F_1/g = F_0/g + m`, the
+    rise is :math:`I_1 - I_0 = m\,\rho_c/(\rho_c - \rho_a)`.
+
+    References
+    ----------
+    OIML R 111-1:2004, Weights of classes E1, E2, F1, F2, M1, M1–2, M2, M2–3 and M3, Part 1,
+    terminology (conventional mass, ρ_c = 8000 kg/m³).
+    OIML D 28:2004, Conventional value of the result of weighing in air.
+
+    Examples
+    --------
+    A 1 kg steel weight of density 8000 kg/m³ as the "glass" of an empty vessel reads 1 kg
+    in any air (the definition of the reference weights, OIML R 111-1):
+
+    >>> tare, _ = simulate_readings(0.0, 1.13, 0.0, glass_mass=1.0, outer_volume=1.0 / 8000)
+    >>> round(float(tare), 12)
+    1.0
     """
     outer_volume = 1.08 * volume if outer_volume is None else outer_volume
-    displaced_air = air_density * outer_volume
-    tare = balance_indication(glass_mass - displaced_air, air_density)
-    filled = balance_indication(glass_mass + gas_mass - displaced_air, air_density)
-    return tare, filled
+    # Net downward force over g: what is on the pan less the air its outside pushes aside.
+    lift = air_density * outer_volume
+    force_tare = glass_mass - lift
+    force_filled = glass_mass + gas_mass - lift
+    # Reference weights of mass I displace I/rho_c of air, so they pull with I (rho_c - rho_a)/rho_c.
+    weights_per_force = CONVENTIONAL_MASS_DENSITY / (CONVENTIONAL_MASS_DENSITY - air_density)
+    return force_tare * weights_per_force, force_filled * weights_per_force
 
 
 METHOD = Method(

@@ -15,13 +15,18 @@ OIML D 28:2004, Conventional value of the result of weighing in air.
 from __future__ import annotations
 
 from molid.methods.air_tare_bulb import gas_mass, gas_mass_without_displaced_air
-from molid.methods.base import DEFAULT_GLASS_MASS, Method, balance_indication
+from molid.methods.base import DEFAULT_GLASS_MASS, Method
+from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
 
 __all__ = ["METHOD", "simulate_readings"]
 
 
 def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MASS, outer_volume=None):
-    """Simulate the indications of an ideal balance for the empty and the drawn syringe [kg].
+    r"""Simulate the indications of an ideal balance for the empty and the drawn syringe [kg].
+
+    Written from the forces on the pan, apart from the model's algebra (no helper
+    of the model is called), so that a slip shared by both would show as a
+    failed round trip.
 
     Parameters
     ----------
@@ -40,11 +45,47 @@ def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MA
     -------
     tuple of numpy.ndarray
         Tare and filled indications [kg].
+
+    Notes
+    -----
+    Downward forces on the pan, divided by g: the syringe, :math:`m_g`; the gas,
+    :math:`m` (drawn only; the plunger home leaves no room for air); the buoyancy
+    of the air the syringe displaces, :math:`-\rho_a V_{ext}` with the plunger
+    home and :math:`-\rho_a (V_{ext} + V)` drawn out by V. The
+    balance is adjusted with reference weights of density ρ_c = 8000 kg/m³
+    (OIML R 111-1:2004): it indicates I when weights of mass I, whose volume is
+    I/ρ_c, would pull the pan with the same net force,
+
+    .. math:: I - \rho_a I/\rho_c = F/g
+              \quad\Rightarrow\quad I = \frac{F}{g}\,\frac{\rho_c}{\rho_c - \rho_a}.
+
+    With :math:`F_0/g = m_g - \rho_a V_{ext}` and
+    :math:`F_1/g = m_g + m - \rho_a (V_{ext} + V)`, the change is
+    :math:`I_1 - I_0 = (m - \rho_a V)\,\rho_c/(\rho_c - \rho_a)`.
+
+    References
+    ----------
+    OIML R 111-1:2004, Weights of classes E1, E2, F1, F2, M1, M1–2, M2, M2–3 and M3, Part 1,
+    terminology (conventional mass, ρ_c = 8000 kg/m³).
+    OIML D 28:2004, Conventional value of the result of weighing in air.
+
+    Examples
+    --------
+    A syringe drawn out by 100 mL in air of 1.2 kg/m³ that takes in 0.12 g of gas
+    (as much as the air it now displaces) reads the same as at tare:
+
+    >>> tare, filled = simulate_readings(0.12e-3, 1.2, 100e-6)
+    >>> round(float(filled - tare), 15)
+    0.0
     """
     outer_volume = 1.08 * volume if outer_volume is None else outer_volume
-    tare = balance_indication(glass_mass - air_density * outer_volume, air_density)
-    filled = balance_indication(glass_mass + gas_mass - air_density * (outer_volume + volume), air_density)
-    return tare, filled
+    # Net downward force over g: what is on the pan less the air its outside pushes aside;
+    # drawing the plunger out by V pushes aside V more.
+    force_tare = glass_mass - air_density * outer_volume
+    force_filled = glass_mass + gas_mass - air_density * (outer_volume + volume)
+    # Reference weights of mass I displace I/rho_c of air, so they pull with I (rho_c - rho_a)/rho_c.
+    weights_per_force = CONVENTIONAL_MASS_DENSITY / (CONVENTIONAL_MASS_DENSITY - air_density)
+    return force_tare * weights_per_force, force_filled * weights_per_force
 
 
 # The syringe's algebra is the air-tare bulb's: both gain ρ_a·V of displaced air.
