@@ -21,7 +21,6 @@ __all__ = [
     "DEFAULT_GLASS_MASS",
     "Method",
     "conventional_mass_factor",
-    "balance_indication",
     "missing_parts",
 ]
 
@@ -57,39 +56,6 @@ def conventional_mass_factor(air_density):
     0.99985
     """
     return 1.0 - air_density / CONVENTIONAL_MASS_DENSITY
-
-
-def balance_indication(load, air_density):
-    r"""Return what a balance adjusted with conventional-mass weights shows for a load [kg].
-
-    Parameters
-    ----------
-    load : array_like
-        True mass on the pan less the mass of the air it displaces [kg].
-    air_density : array_like
-        Density of the air at the balance [kg/m³].
-
-    Returns
-    -------
-    numpy.ndarray or float
-        The indication [kg]: the mass of 8000 kg/m³ weights that balance the load.
-
-    Notes
-    -----
-    .. math:: I = \frac{m - \rho_a V_{ext}}{1 - \rho_a/\rho_c}
-
-    References
-    ----------
-    OIML D 28:2004, Conventional value of the result of weighing in air, 4.2.
-
-    Examples
-    --------
-    A 100 g steel weight of density 8000 kg/m³ reads 100 g in any air:
-
-    >>> round(balance_indication(0.1 - 1.2 * 0.1 / 8000, 1.2) * 1e3, 9)
-    100.0
-    """
-    return load / conventional_mass_factor(air_density)
 
 
 @dataclass(frozen=True)

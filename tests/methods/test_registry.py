@@ -39,8 +39,9 @@ def test_every_stage_knows_every_method():
 def test_simulated_readings_give_back_the_gas_mass(name):
     """Checks behaviour: readings drawn by the simulator give back the gas mass through the model.
 
-    The simulator adds up the loads on the pan (glass, gas, displaced air) and divides by the
-    conventional-mass factor of OIML D 28:2004; the model works the other way.
+    The simulator adds up the forces on the pan (glass, gas, displaced air) and balances them
+    against reference weights of 8000 kg/m³ (OIML R 111-1, D 28:2004); the model works the
+    other way, through the conventional-mass factor.
     """
     method = METHODS[name]
     air_density = np.array([1.15, 1.20, 1.22])
