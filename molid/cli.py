@@ -1,4 +1,4 @@
-"""Command line: ``molid identify``, ``molid library``, ``molid grade``, ``molid report``.
+"""Command line: ``molid identify``, ``library``, ``grade``, ``report`` and ``calibrate``.
 
 A thin layer over the library. Exit status: 0 when every row was analysed, 1 when
 some rows had errors (reported; every other row still analysed), 2 for a usage
@@ -38,6 +38,9 @@ def _add_common(parser):
     parser.add_argument("--top", type=_positive_int, default=5, metavar="N",
                         help="candidates shown per run or sample (default 5)")
     parser.add_argument("--force", action="store_true", help="replace an existing output file")
+    parser.add_argument("--vessels", metavar="CSV",
+                        help="vessel register (from molid calibrate): runs may give 'vessel' "
+                        "instead of 'volume'")
 
 
 def _positive_int(text):
@@ -106,6 +109,17 @@ def build_parser() -> argparse.ArgumentParser:
     report.add_argument("--key", metavar="CSV", help="answer key, for graded reports")
     report.add_argument("--rubric", metavar="TOML", help="rubric file, for graded reports")
     report.add_argument("--paper", choices=("a4", "letter"), default="a4", help="paper size")
+
+    calibrate = commands.add_parser(
+        "calibrate", help="volume of each vessel from water-fill weighings (ISO 4787)",
+        description="Calibrate vessels by water fill: each fill's volume at 20 °C with its GUM "
+        "uncertainty, replicate fills combined per vessel, written as a vessel register.",
+    )
+    calibrate.add_argument("file", help="water-fill file: .csv or .xlsx; '-' reads stdin")
+    calibrate.add_argument("-o", "--output", metavar="CSV", help="write the vessel register to CSV")
+    calibrate.add_argument("--profile", metavar="TOML",
+                           help="instrument profile giving default uncertainties (see README)")
+    calibrate.add_argument("--force", action="store_true", help="replace an existing register file")
     return parser
 
 
@@ -119,10 +133,11 @@ def _load_library(args):
 def _identify(args) -> int:
     from molid.io.safe_files import check_output_path
 
-    output = check_output_path(args.output, [args.file, args.profile, args.library],
+    output = check_output_path(args.output, [args.file, args.profile, args.library, args.vessels],
                                args.force) if args.output else None
     library = _load_library(args)
-    if output is not None and not args.json and _is_large_csv(args.file):
+    # A register lookup happens in the reader of the in-memory path only.
+    if output is not None and not args.json and not args.vessels and _is_large_csv(args.file):
         return _identify_streaming(args, output, library)
     from molid.io.json_document import to_json
     from molid.io.run_csv import to_csv
@@ -130,7 +145,7 @@ def _identify(args) -> int:
     from molid.io.terminal import to_table
     from molid.pipeline.identify import identify
 
-    result = identify(args.file, profile=args.profile, library=library)
+    result = identify(args.file, profile=args.profile, library=library, vessels=args.vessels)
     if args.json:
         sys.stdout.write(to_json(result, None))
     else:
@@ -236,11 +251,11 @@ def _grade(args) -> int:
     from molid.teaching.grades_output import grades_csv, grades_table, grading_document
     from molid.teaching.grading import grade
 
-    inputs = [args.file, args.profile, args.library, args.key, args.rubric]
+    inputs = [args.file, args.profile, args.library, args.key, args.rubric, args.vessels]
     output = check_output_path(args.output, inputs, args.force) if args.output else None
     plots = _plots_folder(args)
     grading = grade(args.file, key=args.key, rubric=args.rubric, profile=args.profile,
-                    library=_load_library(args))
+                    library=_load_library(args), vessels=args.vessels)
     if args.json:
         sys.stdout.write(json.dumps(grading_document(grading, args.top), indent=2,
                                     ensure_ascii=False, allow_nan=False) + "\n")
@@ -266,7 +281,7 @@ def _report(args) -> int:
     path, ok = write_report(
         args.file, args.output, format=args.format, paper=args.paper, profile=args.profile,
         library=_load_library(args), top=args.top, key=args.key, rubric=args.rubric,
-        force=args.force, inputs=[args.library],
+        force=args.force, inputs=[args.library, args.vessels], vessels=args.vessels,
     )
     print(f"wrote {path}", file=sys.stderr)
     suffix = Path(str(path)).suffix.lower()
@@ -277,7 +292,25 @@ def _report(args) -> int:
     return EXIT_OK if ok else EXIT_ROW_ERRORS
 
 
-_HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report}
+def _calibrate(args) -> int:
+    from molid.io.safe_files import check_output_path, write_atomic
+    from molid.pipeline.calibration import calibrate, register_text, summary_text
+
+    output = check_output_path(args.output, [args.file, args.profile], args.force) \
+        if args.output else None
+    calibration = calibrate(args.file, profile=args.profile)
+    sys.stdout.write(summary_text(calibration))
+    if output is not None:
+        if calibration.vessels.empty:
+            print(f"molid: {output} not written: no vessel could be calibrated", file=sys.stderr)
+        else:
+            write_atomic(output, register_text(calibration))
+            print(f"wrote {output}", file=sys.stderr)
+    return EXIT_ROW_ERRORS if not calibration.ok.all() else EXIT_OK
+
+
+_HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report,
+             "calibrate": _calibrate}
 
 
 def main(argv=None) -> int:

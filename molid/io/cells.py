@@ -195,7 +195,8 @@ def read_wet(raw: pd.DataFrame, by_name: dict[str, Header], problems: RowProblem
 
 
 def read_measured(raw: pd.DataFrame, by_name: dict[str, Header], units: dict[str, ColumnUnit],
-                  decimal_comma: bool, problems: RowProblems) -> tuple[dict, dict]:
+                  decimal_comma: bool, problems: RowProblems,
+                  may_be_blank: dict | None = None) -> tuple[dict, dict]:
     """Read every measured column in SI, with an error for each cell that cannot be used.
 
     Parameters
@@ -210,6 +211,9 @@ def read_measured(raw: pd.DataFrame, by_name: dict[str, Header], units: dict[str
         Accept a decimal comma in numbers.
     problems : RowProblems
         Where the errors (and, for the student's reported result, warnings) go.
+    may_be_blank : dict of numpy.ndarray, optional
+        Per required column, rows where a blank cell is no error (the volume of a
+        run that names a calibrated vessel).
 
     Returns
     -------
@@ -227,12 +231,12 @@ def read_measured(raw: pd.DataFrame, by_name: dict[str, Header], units: dict[str
             blanks[name] = np.ones(len(raw), dtype=bool)
             continue
         values[name], blanks[name] = _read_measured_column(raw, header, units[name], decimal_comma,
-                                                           problems)
+                                                           problems, (may_be_blank or {}).get(name))
     return values, blanks
 
 
 def _read_measured_column(raw: pd.DataFrame, header: Header, unit: ColumnUnit, decimal_comma: bool,
-                          problems: RowProblems) -> tuple[np.ndarray, np.ndarray]:
+                          problems: RowProblems, may_be_blank=None) -> tuple[np.ndarray, np.ndarray]:
     """Read one measured column in SI and where it gives no usable value, reporting each bad cell."""
     cells = column_text(raw, header)
     numbers, is_blank, not_number = parse_numbers(cells, decimal_comma)
@@ -256,7 +260,7 @@ def _read_measured_column(raw: pd.DataFrame, header: Header, unit: ColumnUnit, d
     )
     if header.name in REQUIRED_COLUMNS:
         problems.error(
-            is_blank,
+            is_blank if may_be_blank is None else is_blank & ~may_be_blank,
             lambda i: f"column '{header.original}': the cell is empty; "
             f"a value in {unit.text} is required",
         )

@@ -16,6 +16,7 @@ __all__ = [
     "REQUIRED_COLUMNS",
     "MEASURED_COLUMNS",
     "UNCERTAIN_INPUTS",
+    "VESSEL_COLUMN",
 ]
 
 #: Measurement methods (from the registry) and the one-line meaning of their tare reading.
@@ -27,3 +28,5 @@ REQUIRED_COLUMNS = ("run", "method") + REQUIRED_EVERYWHERE
 MEASURED_COLUMNS = tuple(COLUMN_KINDS)
 #: Inputs that may have a u_<name> column; u_mass applies to both readings.
 UNCERTAIN_INPUTS = MEASURED_INPUTS
+#: A column naming a calibrated vessel of the register (``--vessels``): it stands in for ``volume``.
+VESSEL_COLUMN = "vessel"

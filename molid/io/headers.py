@@ -11,7 +11,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-from molid.io.columns import MEASURED_COLUMNS, REQUIRED_COLUMNS, UNCERTAIN_INPUTS
+from molid.io.columns import MEASURED_COLUMNS, REQUIRED_COLUMNS, UNCERTAIN_INPUTS, VESSEL_COLUMN
 from molid.io.problems import InputError
 from molid.io.units import ColumnUnit, UnitProblem, resolve_unit
 from molid.methods.inputs import COLUMN_KINDS
@@ -134,7 +134,9 @@ def resolve_headers(columns, source: str) -> dict[str, Header]:
                 f"both mean '{header.name}'; keep one"
             )
         by_name[header.name] = header
-    missing = [name for name in REQUIRED_COLUMNS if name not in by_name]
+    # A vessel column names calibrated vessels whose volume the register gives.
+    missing = [name for name in REQUIRED_COLUMNS if name not in by_name
+               and not (name == "volume" and VESSEL_COLUMN in by_name)]
     if missing:
         found = ", ".join(f"'{h.original}'" for h in headers) or "none"
         raise InputError(

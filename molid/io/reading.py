@@ -33,6 +33,7 @@ from molid.io.defaults import fill_defaults
 from molid.io.headers import measured_units, parse_header, resolve_headers, uncertainty_columns
 from molid.io.problems import InputError, RowProblems
 from molid.io.profiles import InstrumentProfile, load_profile
+from molid.io.vessel_column import load_vessels, look_up_vessels, share_vessel_volumes, vessel_rows
 
 __all__ = [
     "RunIds",
@@ -297,6 +298,7 @@ def parse_runs(
     source: str = "",
     require_rows: bool = True,
     first_use_of_rows=None,
+    vessels=None,
 ) -> RunTable:
     """Validate a table of text cells and convert its measured columns to SI.
 
@@ -322,6 +324,8 @@ def parse_runs(
     first_use_of_rows : array_like of int, optional
         For each row of ``raw``, the row that first used its run id (0 where new),
         when the caller has checked duplicates itself (see :func:`first_uses`).
+    vessels : VesselRegister or path, optional
+        The vessel register, for files whose runs name a ``vessel`` instead of a ``volume``.
 
     Returns
     -------
@@ -331,9 +335,11 @@ def parse_runs(
     Raises
     ------
     InputError
-        For a missing required column, a duplicated column, an unknown unit, or no data rows.
+        For a missing required column, a duplicated column, an unknown unit, no data rows,
+        or a ``vessel`` column without a register.
     """
     profile = profile or load_profile()
+    register = load_vessels(vessels)
     notes = list(notes or [])
     by_name = resolve_headers(raw.columns, source)
     blank = blank_rows(raw)
@@ -353,10 +359,8 @@ def parse_runs(
     wet = read_wet(raw, by_name, problems)
     # Units before cells: an unknown unit stops the file before any row is judged.
     units = measured_units(by_name, source)
-    values, blanks = read_measured(raw, by_name, units, decimal_comma, problems)
-    stated = read_stated_uncertainties(raw, uncertainty_columns(by_name, units, source, notes),
-                                       decimal_comma, problems)
-    given, uncertainties, shared = fill_defaults(values, blanks, stated, profile, notes)
+    values, given, uncertainties, shared = _measured_values(raw, by_name, units, decimal_comma,
+                                                            profile, register, problems, notes, source)
     check_ranges(values, units, by_name, text, problems)
     return RunTable(
         raw=raw, row_numbers=row_numbers, text=text, wet=wet, values=values,
@@ -365,7 +369,23 @@ def parse_runs(
     )
 
 
-def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None) -> RunTable:
+def _measured_values(raw, by_name, units, decimal_comma, profile, register, problems, notes, source):
+    """Read the measured columns and their uncertainties; fill volumes from a vessel register."""
+    ids = vessel_rows(raw, by_name, register, source)
+    values, blanks = read_measured(raw, by_name, units, decimal_comma, problems,
+                                   None if ids is None else {"volume": pd.notna(ids)})
+    stated = read_stated_uncertainties(raw, uncertainty_columns(by_name, units, source, notes),
+                                       decimal_comma, problems)
+    found = None if ids is None else look_up_vessels(ids, register, values, blanks, stated, by_name,
+                                                     problems)
+    given, uncertainties, shared = fill_defaults(values, blanks, stated, profile, notes)
+    if found is not None:
+        share_vessel_volumes(found, values, uncertainties, shared, register, problems, notes)
+    return values, given, uncertainties, shared
+
+
+def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None,
+              vessels=None) -> RunTable:
     """Read and validate a run file (CSV, .xlsx, ``-`` for stdin, or a DataFrame).
 
     Parameters
@@ -374,6 +394,9 @@ def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None) 
         The runs. See the README for the columns.
     profile : InstrumentProfile or path, optional
         Default uncertainties; a path is loaded with :func:`molid.io.profiles.load_profile`.
+    vessels : VesselRegister or path, optional
+        Vessel register (see :mod:`molid.io.vessel_register`): runs may name a
+        ``vessel`` instead of giving a ``volume``.
 
     Returns
     -------
@@ -388,4 +411,5 @@ def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None) 
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
     raw, decimal_comma, notes, name = read_raw(source)
-    return parse_runs(raw, decimal_comma=decimal_comma, profile=profile, notes=notes, source=name)
+    return parse_runs(raw, decimal_comma=decimal_comma, profile=profile, notes=notes, source=name,
+                      vessels=vessels)

@@ -283,6 +283,7 @@ def identify(
     library=None,
     rank: bool = True,
     combine: bool = True,
+    vessels=None,
 ) -> Identification:
     """Analyse a run file or DataFrame: molar mass, uncertainty, samples and candidates.
 
@@ -300,6 +301,9 @@ def identify(
     combine : bool
         Combine the runs of each sample (off for chunks of a large file, whose
         per-run output has no place for samples).
+    vessels : VesselRegister or path, optional
+        Vessel register: runs may name a ``vessel`` instead of a ``volume`` (see
+        :mod:`molid.io.vessel_column`).
 
     Returns
     -------
@@ -308,7 +312,8 @@ def identify(
     """
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
-    table = source if isinstance(source, RunTable) else read_runs(source, profile=profile)
+    table = source if isinstance(source, RunTable) else read_runs(source, profile=profile,
+                                                                  vessels=vessels)
     propagation, errors, warnings = evaluate_runs(table, profile)
     ok = np.array([not row for row in errors], dtype=bool)
     molar_mass = np.where(ok, propagation.value, np.nan)

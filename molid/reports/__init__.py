@@ -105,7 +105,7 @@ def _read_source(source):
 
 
 def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=None,
-                 graded=None):
+                 graded=None, vessels=None):
     """Analyse a run file and build the report's page model.
 
     Parameters
@@ -122,6 +122,8 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
         Answer key and rubric, for graded files.
     graded : bool, optional
         Force (True) or forbid (False) the graded report; detected when None.
+    vessels : VesselRegister or path, optional
+        Vessel register, for runs that name a ``vessel`` instead of a ``volume``.
 
     Returns
     -------
@@ -130,13 +132,16 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
     ok : bool
         False when some rows had errors.
     """
-    from molid.io.reading import read_raw
+    from molid.io.reading import read_raw, read_runs
     from molid.pipeline.identify import identify
 
     data, frame, name = _read_source(source)
 
     def fresh():
         return frame if frame is not None else _stream(data, name)
+
+    def runs():  # the register is read by the reader; a read table passes through grading as is
+        return fresh() if vessels is None else read_runs(fresh(), profile=profile, vessels=vessels)
 
     if graded is None:
         raw, _, _, _ = read_raw(fresh())
@@ -145,12 +150,12 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
     if graded:
         from molid.reports.graded import graded_report
 
-        report, ok = graded_report(fresh(), key=key, rubric=rubric, profile=profile,
+        report, ok = graded_report(runs(), key=key, rubric=rubric, profile=profile,
                                    library=library, top=top)
     else:
         from molid.reports.content import identify_report
 
-        result = identify(fresh(), profile=profile, library=library)
+        result = identify(fresh(), profile=profile, library=library, vessels=vessels)
         report = identify_report(result, top=top)
         ok = bool(result.ok.all())
     from molid import __version__
@@ -183,7 +188,7 @@ def format_for(output, format):
 
 
 def write_report(source, output, *, format=None, paper="a4", profile=None, library=None,
-                 top=5, key=None, rubric=None, force=False, inputs=()):
+                 top=5, key=None, rubric=None, force=False, inputs=(), vessels=None):
     """Analyse ``source`` and write its report to ``output`` (atomically).
 
     Parameters
@@ -202,6 +207,8 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
         Replace an existing output file.
     inputs : iterable of path
         Other files the command reads; the output may not be one of them.
+    vessels : VesselRegister or path, optional
+        Vessel register, for runs that name a ``vessel`` instead of a ``volume``.
 
     Returns
     -------
@@ -217,6 +224,6 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
     path = check_output_path(output, [source_path, profile if isinstance(profile, (str, Path))
                                       else None, key, rubric, *inputs], force)
     report, ok = build_report(source, profile=profile, library=library, top=top, key=key,
-                              rubric=rubric)
+                              rubric=rubric, vessels=vessels)
     write_atomic(path, render_report(report, format_for(path, format), paper))
     return path, ok

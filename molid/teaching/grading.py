@@ -484,7 +484,7 @@ def _grades_frame(table: RunTable, expected, true_index, true_mass, result: Iden
 
 # -- grading ----------------------------------------------------------------------------
 
-def _load_inputs(source, rubric, profile, library):
+def _load_inputs(source, rubric, profile, library, vessels=None):
     """Load the rubric, instrument profile, candidate library and run table of a grading.
 
     The run table gets its own copy of the text cells: grading writes the true
@@ -496,12 +496,13 @@ def _load_inputs(source, rubric, profile, library):
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
     library = (load_library() if library is None else library).reset_index(drop=True)
-    table = source if isinstance(source, RunTable) else read_runs(source, profile=profile)
+    table = source if isinstance(source, RunTable) else read_runs(source, profile=profile,
+                                                                  vessels=vessels)
     table = dataclasses.replace(table, text=table.text.copy())
     return rubric, profile, library, table
 
 
-def grade(source, *, key=None, rubric=None, profile=None, library=None) -> Grading:
+def grade(source, *, key=None, rubric=None, profile=None, library=None, vessels=None) -> Grading:
     """Recompute, grade and diagnose every run of a lab section.
 
     Parameters
@@ -519,6 +520,8 @@ def grade(source, *, key=None, rubric=None, profile=None, library=None) -> Gradi
         Default uncertainties.
     library : pandas.DataFrame, optional
         Candidate library; the default library when None.
+    vessels : VesselRegister or path, optional
+        Vessel register, for runs that name a ``vessel`` instead of a ``volume``.
 
     Returns
     -------
@@ -532,7 +535,7 @@ def grade(source, *, key=None, rubric=None, profile=None, library=None) -> Gradi
         single rows (no readings, an unknown identity) are reported in the row's
         ``error`` and the other rows are graded.
     """
-    rubric, profile, library, table = _load_inputs(source, rubric, profile, library)
+    rubric, profile, library, table = _load_inputs(source, rubric, profile, library, vessels)
     samples = table.text["sample"].to_numpy(dtype=object)
     expected, notes = identities_from_key(key, samples, table.text["expected"].to_numpy(dtype=object),
                                           table.row_numbers)
