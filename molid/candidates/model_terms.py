@@ -5,6 +5,11 @@ Each correlation carries a standard uncertainty per polar class, read from
 against reference equations of state that sized it: :func:`virial_uncertainty`
 for B, :func:`virial_truncation_uncertainty` for the neglected higher virial
 terms, :func:`vapour_pressure_relative_uncertainty` for the vapour pressure.
+
+The terms are written by ``benchmarks/size_model_terms.py``: sized on one set of
+fluids and states, their coverage reported on another (the ``basis`` columns
+give both figures; ``docs/model_terms.md`` names the split and the known
+shortfalls).
 """
 
 from __future__ import annotations

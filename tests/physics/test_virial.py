@@ -7,6 +7,7 @@ measured virial coefficients in tests/reference_values.toml, and the published c
 
 from __future__ import annotations
 
+import math
 import sys
 from functools import cache, lru_cache
 from pathlib import Path
@@ -47,6 +48,13 @@ def library() -> pd.DataFrame:
 def coolprop_map() -> dict:
     table = pd.read_csv(HERE / "coolprop_fluids.csv", comment="#")
     return dict(zip(table["library_name"], table["coolprop_name"], strict=True))
+
+
+@lru_cache(maxsize=1)
+def coolprop_split() -> dict:
+    """Library name -> 'sizing', 'check' or 'both' (tests/coolprop_fluids.csv)."""
+    table = pd.read_csv(HERE / "coolprop_fluids.csv", comment="#")
+    return dict(zip(table["library_name"], table["split"], strict=True))
 
 
 def candidate(name: str) -> dict:
@@ -109,24 +117,13 @@ def z_states(name: str) -> list[tuple[float, float]]:
     return states
 
 
-def b_states(name: str) -> list[float]:
-    """States that sized u(B): gases at 15-30 °C; liquids at 60-110 °C where p_sat >= 50 kPa."""
-    fluid = coolprop_map()[name]
-    if library().loc[name, "normal_boiling_point"] < 288.15:
-        return [288.15, 293.15, 298.15, 303.15]
-    grid = np.arange(333.15, 383.16, 5.0)
-    return [float(T) for T in grid if coolprop_saturation(fluid, T) >= 50e3]
-
-
 MAPPED = sorted(coolprop_map())
 NONPOLAR_GASES = [n for n in MAPPED if library().loc[n, "polar_class"] == "nonpolar"]
 POLAR_OR_QUANTUM = [n for n in MAPPED if n not in NONPOLAR_GASES]
 
 # Candidates where the measured deviation exceeds the stated limit (see the report in
 # molid/data/virial_model.csv: about 5 % of states are expected beyond 2u).
-BEYOND_DECLARED_TERM = {
-    "chlorine": "Tsonopoulos B about 5 % above the Cl2 reference EOS at 15-30 °C (u = 3.2 %)",
-}
+BEYOND_DECLARED_TERM = {}
 BEYOND_ONE_PERMILLE = {
     "1-butene": "Tsonopoulos B about 2 % and truncation about (Bp/RT)^2; |dZ| up to 1.7e-3",
     "chlorine": "Tsonopoulos B about 5 % off; |dZ| up to 1.1e-3",
@@ -330,15 +327,93 @@ def test_density_form_neglects_less_than_pressure_form():
     assert closer / total >= 0.95
 
 
-# ---- the declared model terms are neither too narrow nor inflated -------------------------
+# ---- the declared model terms are neither too narrow nor inflated, out of sample ----------
+# The terms were sized by benchmarks/size_model_terms.py on a SIZING set; these tests use only
+# the CHECK set. Split by fluid: the split column of tests/coolprop_fluids.csv (per class the
+# CoolProp fluids alternate sizing/check alphabetically; McGarry-only candidates alternate the
+# same way; water, alone in its class, is split by state only). Split by state: gases sized at
+# 15/25/35 °C, checked at 20/30 °C; vapours sized at 60-110 °C, checked at 65-105 °C (10 K
+# steps, p_sat >= 50 kPa); truncation checked at 105 kPa or min(95 kPa, 0.7 p_sat).
+CHECK_GAS_TEMPERATURES = (293.15, 303.15)
+CHECK_VAPOUR_TEMPERATURES = tuple(338.15 + 10.0 * k for k in range(5))
+
+# Terms the split-sized value under-covered, held at their value sized on all fluids: their
+# check figure is not out-of-sample by fluid (see the HELD notes in virial_model.csv).
+HELD_IN_SAMPLE = {("quantum", "B"), ("ether-ketone-ester", "B"), ("haloalkane", "k_pressure"),
+                  ("alcohol", "k_pressure"), ("alcohol", "k_density")}
+# Out-of-sample figures that miss "about 95 % within 2u, fewer than 95 % within u" (strict).
+CHECK_SHORTFALLS = {
+    ("alcohol", "k_pressure"): "methanol at 65-105 °C: 60 % of 5 check states within 2u; the "
+    "split-sized (ethanol) factor 0.53 covered none, the held factor 3.8 three",
+    ("alcohol", "k_density"): "methanol at 65-105 °C: 60 % of 5 check states within 2u; the "
+    "split-sized (ethanol) factor 0.0043 covered none, the held factor 3.2 three",
+    ("inorganic-polar", "B"): "inflated out of sample: all 4 check states (H2S, COS) within u; "
+    "the term is set by SO2 (20 % off) in the sizing set, the check fluids are at most 10 % off",
+    ("inorganic-polar", "k_density"): "inflated out of sample: all 4 check states within u "
+    "(neglected/(Bp/RT)^2 at most 0.12 against k = 0.2)",
+    ("nonpolar", "ambrose-walton"): "inflated out of sample: all 70 check states within u "
+    "(largest 2.5 % at 20-30 °C); u is set by cyclohexane (4.4-5 % high) in the sizing set",
+    ("ether-ketone-ester", "ambrose-walton"): "inflated out of sample: all 42 check states "
+    "within u; u is set by acetone (2.9-3.2 % low at 15-35 °C) in the sizing set",
+    ("haloalkane", "ambrose-walton"): "inflated out of sample: all 63 check states within u; "
+    "u is set by bromomethane and other McGarry-only candidates at 60-110 °C in the sizing set",
+    ("haloalkane", "lee-kesler"): "inflated out of sample: all 63 check states within u; u is "
+    "set by the hot range of the sizing set (bromomethane, up to 11.7 % off)",
+    ("inorganic-polar", "ambrose-walton"): "inflated out of sample: all 13 check states within "
+    "u (H2S, COS at most 0.2 % off); u is set by hydrogen fluoride (up to 18 %) in the sizing set",
+    ("inorganic-polar", "lee-kesler"): "inflated out of sample: all 13 check states within u "
+    "(at most 0.3 % off); u is set by hydrogen fluoride (up to 19 %) in the sizing set",
+}
+
+
+def _mark_shortfall(request, polar_class, term):
+    if (polar_class, term) in CHECK_SHORTFALLS:
+        request.applymarker(pytest.mark.xfail(reason=CHECK_SHORTFALLS[polar_class, term], strict=True))
+
+
+def check_fluids() -> list[str]:
+    """CoolProp fluids of the check set (split 'check', or 'both' for a class of one)."""
+    return [name for name in MAPPED if coolprop_split()[name] in ("check", "both")]
+
+
+def check_states(name: str) -> list[tuple[float, float]]:
+    """Check states: gases at 20/30 °C and 105 kPa; vapours at 65-105 °C, min(95 kPa, 0.7 p_sat)."""
+    if library().loc[name, "normal_boiling_point"] < 288.15:
+        return [(T, 105e3) for T in CHECK_GAS_TEMPERATURES]
+    fluid = coolprop_map()[name]
+    states = []
+    for T in CHECK_VAPOUR_TEMPERATURES:
+        saturation = coolprop_saturation(fluid, T)
+        if saturation >= 50e3:
+            states.append((T, min(95e3, 0.7 * saturation)))
+    return states
+
+
+def binomial_tail(count, n, probability, upper):
+    """P(X >= count) (upper) or P(X <= count) for X ~ Binomial(n, probability)."""
+    values = range(count, n + 1) if upper else range(count + 1)
+    return sum(math.comb(n, k) * probability**k * (1 - probability) ** (n - k) for k in values)
+
+
+def assert_about_95_percent(deviation, allowance):
+    """Outside 2u: not improbably many (P < 5 %) nor improbably few (P < 1 %) for 5 % expected.
+
+    At 5 % expected outside, none outside of 90 or more states (above 99.5 % within 2u) is too
+    few; with fewer states the figure cannot tell and only too many outside fails.
+    """
+    n = len(deviation)
+    outside = int(np.sum(deviation > 2 * allowance))
+    within = 1 - outside / n
+    assert binomial_tail(outside, n, 0.05, upper=True) >= 0.05, f"{within:.1%} of {n} within 2u"
+    assert binomial_tail(outside, n, 0.05, upper=False) >= 0.01, f"{within:.1%} of {n} within 2u"
 
 
 @lru_cache(maxsize=1)
 def b_deviations() -> pd.DataFrame:
     rows = []
-    for name in MAPPED:
+    for name in check_fluids():
         fluid = coolprop_map()[name]
-        for T in b_states(name):
+        for T, _ in check_states(name):
             rows.append(
                 {
                     "polar_class": candidate(name)["polar_class"],
@@ -350,38 +425,52 @@ def b_deviations() -> pd.DataFrame:
 
 
 @pytest.mark.parametrize("polar_class", virial.POLAR_CLASSES)
-def test_B_terms_cover_about_95_percent(polar_class):
-    """About 95 % of |B − B_CoolProp| lie within 2u(B); with u halved clearly fewer (CoolProp)."""
+def test_B_terms_cover_about_95_percent_out_of_sample(polar_class, request):
+    """Check set only: about 95 % of |B − B_CoolProp| within 2u(B), fewer than 95 % within u (CoolProp).
+
+    Check fluids and states were not used for sizing (split above; figures per class in
+    virial_model.csv basis_B and docs/model_terms.md, e.g. nonpolar 100 % of 46 states within
+    2u, 89 % within u).
+    """
+    _mark_shortfall(request, polar_class, "B")
     table = b_deviations()
     rows = table[table["polar_class"] == polar_class]
-    assert len(rows) >= 4
+    assert len(rows) >= 3
     deviation = np.abs(rows["B"] - rows["reference"]).to_numpy()
-    classes = rows["polar_class"].to_numpy()
-    u = model_terms.virial_uncertainty(classes, rows["reference"].to_numpy())
-    assert np.mean(deviation <= 2 * u) >= 0.95
-    half = model_terms.virial_uncertainty(classes, rows["reference"].to_numpy()) / 2
-    assert np.mean(deviation <= 2 * half) < 0.95
+    u = model_terms.virial_uncertainty(rows["polar_class"].to_numpy(), rows["reference"].to_numpy())
+    assert_about_95_percent(deviation, u)
+    assert np.mean(deviation <= u) < 0.95
 
 
-@pytest.mark.parametrize("form", ["pressure", "density"])
-@pytest.mark.parametrize("polar_class", [c for c in virial.POLAR_CLASSES if c != "quantum"])
-def test_truncation_terms_cover_about_95_percent(polar_class, form):
-    """Z of the truncated series (CoolProp's B) vs EOS Z: 95 % within 2u (CoolProp)."""
+def truncation_check(polar_class, form):
+    """|Z_truncated − Z_EOS| (CoolProp's B) and u at the check states with |Bp/RT| > 0.005."""
     neglected, allowance = [], []
-    for name in MAPPED:
+    for name in check_fluids():
         if candidate(name)["polar_class"] != polar_class:
             continue
         fluid = coolprop_map()[name]
-        for T, p in z_states(name):
+        for T, p in check_states(name):
             B = coolprop_B(fluid, T)
             if abs(B * p / (GAS_CONSTANT * T)) <= 0.005:
                 continue
             reference = CP.PropsSI("Z", "T", T, "P", p, fluid)
             neglected.append(abs(virial.compressibility_factor(T, p, B, form=form) - reference))
             allowance.append(float(model_terms.virial_truncation_uncertainty(polar_class, T, p, B, form)))
-    neglected, allowance = np.array(neglected), np.array(allowance)
-    assert len(neglected) >= 2
-    assert np.mean(neglected <= 2 * allowance) >= 0.95
+    return np.array(neglected), np.array(allowance)
+
+
+@pytest.mark.parametrize("form", ["pressure", "density"])
+@pytest.mark.parametrize("polar_class", [c for c in virial.POLAR_CLASSES if c != "quantum"])
+def test_truncation_terms_cover_about_95_percent_out_of_sample(polar_class, form, request):
+    """Check set only: truncated-series Z vs EOS Z about 95 % within 2u, fewer within u (CoolProp).
+
+    Check fluids and states (20/30 °C at 105 kPa, 65-105 °C at min(95 kPa, 0.7 p_sat)) were not
+    used for sizing; e.g. nonpolar 100 % of 33 states within 2u (both forms).
+    """
+    _mark_shortfall(request, polar_class, f"k_{form}")
+    neglected, allowance = truncation_check(polar_class, form)
+    assert len(neglected) >= 3
+    assert_about_95_percent(neglected, allowance)
     assert np.mean(neglected <= allowance) < 0.95
 
 
@@ -391,23 +480,28 @@ def _mcgarry(name):
     return table.loc[cas] if isinstance(cas, str) and cas in table.index else None
 
 
+def vapour_check_names() -> list[str]:
+    """Check set of the vapour-pressure terms: CoolProp check fluids, then alternate McGarry-only ones."""
+    names = [name for name in check_fluids() if library().loc[name, "has_critical_data"]]
+    table = library()[library()["has_critical_data"]]
+    for _, group in table.groupby("polar_class"):
+        only_mcgarry = sorted(n for n in group.index if n not in coolprop_map() and _mcgarry(n) is not None)
+        names += only_mcgarry[1::2]
+    return names
+
+
 @lru_cache(maxsize=1)
 def vapour_deviations() -> pd.DataFrame:
-    """Estimates against CoolProp, or McGarry's Wagner fits where CoolProp has no equation."""
+    """Estimates against CoolProp, or McGarry's Wagner fits where CoolProp has none, check set."""
     rows = []
-    temperatures = list(np.arange(288.15, 303.16, 5.0)) + list(np.arange(333.15, 383.16, 5.0))
-    for name in library().index:
+    temperatures = CHECK_GAS_TEMPERATURES + CHECK_VAPOUR_TEMPERATURES
+    for name in vapour_check_names():
         c = candidate(name)
-        if not library().loc[name, "has_critical_data"]:
-            continue
         if name in coolprop_map():
             fluid = coolprop_map()[name]
-            upper = CP.PropsSI("Tcrit", fluid)
-            lower = CP.PropsSI("Ttriple", fluid)
-        elif (fit := _mcgarry(name)) is not None:
-            upper, lower = fit.Tc, fit.Tmin
+            upper, lower = CP.PropsSI("Tcrit", fluid), CP.PropsSI("Ttriple", fluid)
         else:
-            continue
+            upper, lower = _mcgarry(name).Tc, _mcgarry(name).Tmin
         for T in temperatures:
             if T >= min(c["critical_temperature"], upper) or T < lower:
                 continue
@@ -427,17 +521,20 @@ def vapour_deviations() -> pd.DataFrame:
 
 @pytest.mark.parametrize("method", ["ambrose-walton", "lee-kesler"])
 @pytest.mark.parametrize("polar_class", [c for c in virial.POLAR_CLASSES if c != "quantum"])
-def test_vapour_pressure_terms_cover_about_95_percent(polar_class, method):
-    """At 15-30 °C and 60-110 °C >= 95 % within 2u; in one range < 95 % within u (CoolProp)."""
+def test_vapour_pressure_terms_cover_about_95_percent_out_of_sample(polar_class, method, request):
+    """Check set only: about 95 % within 2u over both ranges; in one range < 95 % within u (CoolProp).
+
+    Check substances and states (20/30 °C, 65-105 °C) were not used for sizing; e.g. nonpolar
+    Lee-Kesler 97 % of 70 states within 2u, 87 % within u.
+    """
+    _mark_shortfall(request, polar_class, method)
     table = vapour_deviations()
     u = float(model_terms.vapour_pressure_relative_uncertainty(polar_class, method))
-    tight = []
-    for hot in (False, True):
-        rows = table[(table["polar_class"] == polar_class) & (table["hot"] == hot)]
-        deviation = np.abs(rows[method].to_numpy())
-        assert len(deviation) >= 4
-        assert np.mean(deviation <= 2 * u) >= 0.95
-        tight.append(np.mean(deviation <= u) < 0.95)
+    rows = table[table["polar_class"] == polar_class]
+    assert len(rows) >= 4
+    assert_about_95_percent(np.abs(rows[method].to_numpy()), np.full(len(rows), u))
+    tight = [np.mean(np.abs(rows.loc[rows["hot"] == hot, method].to_numpy()) <= u) < 0.95
+             for hot in (False, True) if (rows["hot"] == hot).any()]
     assert any(tight)
 
 
@@ -491,11 +588,7 @@ VOLATILE = (
 # Beyond 2u at 20 °C (the class terms hold 95 % of all room-temperature states, and these
 # low-Tr liquids are the hardest of them).
 VAPOUR_BEYOND_DECLARED_TERM = {
-    ("acetone", "ambrose-walton"): "Ambrose-Walton 2.9 % low at 20 °C (u = 1.3 %)",
-    ("acetone", "lee-kesler"): "Lee-Kesler 5.9 % low at 20 °C (u = 2.9 %)",
-    ("cyclohexane", "ambrose-walton"): "Ambrose-Walton 4.44 % high at 20 °C (u = 2.2 %)",
-    ("toluene", "lee-kesler"): "Lee-Kesler 6.1 % low at 20 °C (u = 2.9 %)",
-    ("chloroform", "lee-kesler"): "Lee-Kesler 6.1 % low at 20 °C against McGarry (u = 2.9 %)",
+    ("toluene", "lee-kesler"): "Lee-Kesler 6.1 % low at 20 °C (u = 2.5 %)",
 }
 
 
@@ -632,13 +725,27 @@ def test_unknown_polar_class_is_refused():
 
 
 def test_model_file_has_a_basis_for_every_class():
-    """virial_model.csv states its measured basis for every class (project data rule)."""
+    """Checks behaviour: virial_model.csv states sizing and check figures for every class (data rule)."""
     table = model_terms.load_virial_model()
     for polar_class in virial.POLAR_CLASSES:
         row = table[polar_class]
         assert row["u_relative_B"] > 0
         assert "substance" in row["basis_B"] and "states" in row["basis_B"]
+        assert "Sizing" in row["basis_B"] and "Check" in row["basis_B"]
         assert row["basis_vapour_pressure"]
+
+
+def test_split_separates_sizing_and_check_fluids():
+    """Checks behaviour: every class with two or more CoolProp fluids has fluids in both sets."""
+    split = coolprop_split()
+    assert set(split.values()) <= {"sizing", "check", "both"}
+    for polar_class in virial.POLAR_CLASSES:
+        names = [n for n in MAPPED if candidate(n)["polar_class"] == polar_class]
+        sets = {split[n] for n in names}
+        if len(names) == 1:
+            assert sets == {"both"}, polar_class
+        else:
+            assert sets == {"sizing", "check"}, polar_class
 
 
 # ---- properties ---------------------------------------------------------------------------
