@@ -123,7 +123,10 @@ POLAR_OR_QUANTUM = [n for n in MAPPED if n not in NONPOLAR_GASES]
 
 # Candidates where the measured deviation exceeds the stated limit (see the report in
 # molid/data/virial_model.csv: about 5 % of states are expected beyond 2u).
-BEYOND_DECLARED_TERM = {}
+BEYOND_DECLARED_TERM = {
+    # A known shortfall of the class term sized out of sample (molid/data/virial_model.csv):
+    "vinyl chloride": "Tsonopoulos B 8-10 % off; haloalkane u(B) 3.2 %, so |dZ| is 1.1 x 2u(Z)",
+}
 BEYOND_ONE_PERMILLE = {
     "1-butene": "Tsonopoulos B about 2 % and truncation about (Bp/RT)^2; |dZ| up to 1.7e-3",
     "chlorine": "Tsonopoulos B about 5 % off; |dZ| up to 1.1e-3",
@@ -589,6 +592,7 @@ VOLATILE = (
 # low-Tr liquids are the hardest of them).
 VAPOUR_BEYOND_DECLARED_TERM = {
     ("toluene", "lee-kesler"): "Lee-Kesler 6.1 % low at 20 °C (u = 2.5 %)",
+    ("methanol", "lee-kesler"): "Lee-Kesler 16.4 % low at 20 °C (alcohol u = 5.9 %)",
 }
 
 
