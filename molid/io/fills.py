@@ -108,7 +108,7 @@ def _unit(kind: str, header: Header | None, source: str):
         raise InputError(f"{source}: column '{header.original}': {problem}") from None
 
 
-def _measured(raw, by_name, source, problems) -> tuple[dict, dict]:
+def _measured(raw, by_name, source, problems, decimal_comma) -> tuple[dict, dict]:
     """Read each measured column in SI; errors for bad cells and blank required ones."""
     values, blanks = {}, {}
     for name, kind in FILL_COLUMNS.items():
@@ -118,7 +118,7 @@ def _measured(raw, by_name, source, problems) -> tuple[dict, dict]:
             continue
         unit = _unit(kind, header, source)
         cells = column_text(raw, header)
-        numbers, blank, not_number = parse_numbers(cells, decimal_comma=False)
+        numbers, blank, not_number = parse_numbers(cells, decimal_comma)
         original = cells.to_numpy()
         bad = not_number | np.isinf(numbers)
         problems.error(bad, lambda i, h=header, o=original, u=unit: (
@@ -131,7 +131,7 @@ def _measured(raw, by_name, source, problems) -> tuple[dict, dict]:
     return values, blanks
 
 
-def _expansion(raw, by_name, source, problems) -> np.ndarray:
+def _expansion(raw, by_name, source, problems, decimal_comma) -> np.ndarray:
     """Each fill's cubic expansion coefficient [1/K]: an ``expansion`` number, else the ``material``."""
     n = len(raw)
     result = np.full(n, MATERIALS[DEFAULT_MATERIAL][0])
@@ -151,7 +151,7 @@ def _expansion(raw, by_name, source, problems) -> np.ndarray:
             raise InputError(f"{source}: column '{header.original}': unit '{header.unit}' is not "
                              "accepted; give the cubic expansion coefficient in 1/K")
         cells = column_text(raw, header)
-        numbers, blank, not_number = parse_numbers(cells, decimal_comma=False)
+        numbers, blank, not_number = parse_numbers(cells, decimal_comma)
         original = cells.to_numpy()
         problems.error(not_number | np.isinf(numbers), lambda i: (
             f"column '{header.original}': '{original[i]}' is not a number; expected a cubic "
@@ -177,7 +177,7 @@ def _dates(raw, by_name, problems) -> np.ndarray:
     return np.where(parsed.isna().to_numpy(), None, text)
 
 
-def _stated(raw, by_name, source, notes, problems) -> dict:
+def _stated(raw, by_name, source, notes, problems, decimal_comma) -> dict:
     """Read the standard uncertainties stated in ``u_`` columns, in SI (NaN where none)."""
     kinds = {**FILL_COLUMNS, "volume_fill": "volume", "expansion": None}
     stated: dict = {}
@@ -194,7 +194,7 @@ def _stated(raw, by_name, source, notes, problems) -> dict:
         unit_header = header if header.unit else by_name.get(targets[0])
         scale = _unit(kind, unit_header, source).delta_scale if kind else 1.0
         cells = column_text(raw, header)
-        numbers, blank, not_number = parse_numbers(cells, decimal_comma=False)
+        numbers, blank, not_number = parse_numbers(cells, decimal_comma)
         original = cells.to_numpy()
         bad = not_number | np.isinf(numbers) | (numbers < 0)
         problems.error(bad, lambda i, h=header, o=original: (
@@ -293,8 +293,6 @@ def read_fills(source, *, profile: InstrumentProfile | str | None = None) -> Fil
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
     raw, decimal_comma, notes, name = read_raw(source)
-    if decimal_comma:
-        raw = raw.apply(lambda column: column.str.replace(",", ".", regex=False))
     by_name = _headers(raw.columns, name)
     blank = blank_rows(raw)
     row_numbers = np.arange(2, 2 + len(raw))[~blank]
@@ -304,13 +302,13 @@ def read_fills(source, *, profile: InstrumentProfile | str | None = None) -> Fil
     problems = RowProblems(row_numbers)
     cells = column_text(raw, by_name["vessel"]).str.strip().to_numpy(dtype=object)
     vessel = np.where(cells == "", None, cells)
-    values, blanks = _measured(raw, by_name, name, problems)
+    values, blanks = _measured(raw, by_name, name, problems, decimal_comma)
     if blanks["air_temperature"].any():
         notes.append("air temperature not given for some or all fills: the water's temperature used")
     values["air_temperature"] = np.where(blanks["air_temperature"], values["water_temperature"],
                                          values["air_temperature"])
-    values["expansion"] = _expansion(raw, by_name, name, problems)
-    stated = _stated(raw, by_name, name, notes, problems)
+    values["expansion"] = _expansion(raw, by_name, name, problems, decimal_comma)
+    stated = _stated(raw, by_name, name, notes, problems, decimal_comma)
     dates = _dates(raw, by_name, problems)
     _check_fills(vessel, values, blanks, by_name, problems)
     _check_one_material(vessel, values["expansion"], row_numbers, problems)

@@ -1,5 +1,6 @@
 """Vessel calibration by water fill (ISO 4787) against independent recomputations written out here."""
 
+import io
 import math
 
 import numpy as np
@@ -151,3 +152,12 @@ def test_demo_fill_file_gives_three_vessels():
     assert calibration.vessels["vessel"].tolist() == ["B-500-1", "B-500-2", "B-250-3"]
     assert calibration.vessels["n"].tolist() == [3, 3, 3]
     assert calibration.vessels["source_rows"].tolist() == ["2;3;4", "5;6;7", "8;9;10"]
+
+
+def test_decimal_comma_fill_file_reads_the_same():
+    """Checks behaviour: a semicolon file with decimal commas gives the same volume; ids keep their commas."""
+    header = "vessel{0}mass_empty [g]{0}mass_water [g]{0}water_temperature [degC]{0}pressure [kPa]\n"
+    point = calibrate(io.BytesIO((header.format(",") + "B-1,120.0001,369.2001,21.0,100.8\n").encode()))
+    comma = calibrate(io.BytesIO((header.format(";") + "B,1;120,0001;369,2001;21,0;100,8\n").encode()))
+    assert comma.vessels["vessel"].tolist() == ["B,1"]
+    assert comma.vessels["volume"].iloc[0] == point.vessels["volume"].iloc[0]
