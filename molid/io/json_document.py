@@ -12,6 +12,7 @@ import math
 import numpy as np
 
 from molid import __version__
+from molid.candidates.hazards import hazard_summary, pressure_unit_texts
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = ["molar_mass_block", "to_document", "to_json"]
@@ -59,7 +60,36 @@ def _budget_list(result, index):
     return rows
 
 
-def _run_entry(result, index, top) -> dict:
+def _safety_context(result) -> dict:
+    """Give what every ``hazards`` key needs: the library's GHS classes, pressure units, methods."""
+    hazards = {}
+    if result.ranking is not None:
+        library = result.ranking.library
+        hazards = {name: list(classes) for name, classes in
+                   zip(library["name"], library["ghs_hazards"], strict=True)}
+    text = result.table.text
+    sample_methods: dict = {}
+    for sample, method in zip(text["sample"], text["method"], strict=True):
+        sample_methods.setdefault(sample, {})[method] = None
+    return {"library_hazards": hazards, "units": pressure_unit_texts(result.table.units),
+            "sample_methods": sample_methods}
+
+
+def _hazards(context, candidates, fetch_all, top, extras, methods, analysed) -> dict:
+    """Build a ``hazards`` key from every candidate that is not excluded, not only the top ones.
+
+    Candidates are ranked by |z|, so the shown list holds every consistent and marginal one
+    unless it was cut at ``top`` while still in them; then ``fetch_all()`` gives the rest.
+    """
+    if top is not None and len(candidates) >= top and candidates and \
+            candidates[-1]["verdict"] in ("consistent", "marginal"):
+        candidates = fetch_all()
+    return hazard_summary(candidates, context["library_hazards"], label=extras.get("label"),
+                          methods=[m for m in methods if m], units=context["units"],
+                          analysed=analysed)
+
+
+def _run_entry(result, index, top, context) -> dict:
     """Build one run's entry of ``results``: its cells, M ± U, budget and candidates."""
     table = result.table
     ranking = result.ranking
@@ -77,17 +107,22 @@ def _run_entry(result, index, top) -> dict:
         "budget": [] if error else _budget_list(result, index),
         "candidates": [],
     }
+    extras = {}
     if ranking is not None and not error:
         entry["candidates"] = ranking.run_candidates(index, top)
-        entry.update(ranking.run_extras(index))
+        extras = ranking.run_extras(index)
+        entry.update(extras)
     if not error:
-        extras = result.propagation.extras
-        entry["gas_mass_g"] = _float(extras["gas_mass"][index] * 1e3)
-        entry["air_density_kg_m3"] = _float(extras["air_density"][index])
+        propagated = result.propagation.extras
+        entry["gas_mass_g"] = _float(propagated["gas_mass"][index] * 1e3)
+        entry["air_density_kg_m3"] = _float(propagated["air_density"][index])
+    entry["hazards"] = _hazards(context, entry["candidates"],
+                                lambda: ranking.run_candidates(index), top, extras,
+                                [entry["method"]], not error)
     return entry
 
 
-def _sample_entries(result, top) -> list:
+def _sample_entries(result, top, context) -> list:
     """Build the ``samples`` list: each sample's combined M ± U, replicate statistics, candidates."""
     ranking = result.ranking
     samples = []
@@ -110,6 +145,9 @@ def _sample_entries(result, top) -> list:
             if ranking is not None:
                 entry["candidates"] = ranking.sample_candidates(name, top)
                 entry.update(ranking.sample_extras(name))
+        entry["hazards"] = _hazards(
+            context, entry["candidates"], lambda name=name: ranking.sample_candidates(name), top,
+            entry, list(context["sample_methods"].get(name, {})), entry["molar_mass"] is not None)
         samples.append(entry)
     return samples
 
@@ -129,8 +167,9 @@ def to_document(result, top: int | None = None) -> dict:
     dict
         ``{"molid": version, "notes": [...], "results": [...], "samples": [...]}``.
     """
-    runs = [_run_entry(result, index, top) for index in range(len(result.table))]
-    samples = _sample_entries(result, top)
+    context = _safety_context(result)
+    runs = [_run_entry(result, index, top, context) for index in range(len(result.table))]
+    samples = _sample_entries(result, top, context)
     return {"molid": __version__, "notes": list(result.notes), "results": runs, "samples": samples}
 
 

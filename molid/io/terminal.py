@@ -1,7 +1,7 @@
 """The plain-text report of an identification, for a terminal (``molid identify``).
 
 A line per run with its two best candidates, then each sample with its ranked
-candidates, label check and notes, then the errors, warnings and file notes.
+candidates, label check, hazard line and notes, then the errors, warnings and file notes.
 """
 
 from __future__ import annotations
@@ -10,6 +10,7 @@ import math
 
 import numpy as np
 
+from molid.candidates.hazards import hazard_line
 from molid.io.json_document import to_document
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -79,7 +80,7 @@ def _run_lines(result, top) -> list:
 
 
 def _sample_lines(entry, top) -> list:
-    """Give one sample's lines: combined M ± U, ranked candidates, label check, notes, warnings."""
+    """Give one sample's lines: M ± U, ranked candidates, label check, hazards, notes, warnings."""
     block = entry["molar_mass"]
     value = format_value(block["value"], block["U"]) + " g/mol" if block else "no result"
     extra = ""
@@ -102,6 +103,8 @@ def _sample_lines(entry, top) -> list:
     label = entry.get("label")
     if label:
         lines.append(f"    label: {_label_text(label)}")
+    if "hazards" in entry:
+        lines.append(f"    hazards: {hazard_line(entry['hazards'])}")
     for note in entry.get("distinguish", []) or []:
         lines.append(f"    note: {note}")
     for warning in entry["warnings"]:

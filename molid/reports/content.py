@@ -17,8 +17,15 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from molid.candidates.hazards import (
+    LABEL_MARK,
+    SAFETY_FOOTNOTE,
+    grouped_substances,
+    hazard_summary,
+    pressure_unit_texts,
+    unidentified_text,
+)
 from molid.methods.inputs import INPUT_LABELS
-from molid.methods.registry import METHODS
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = [
@@ -32,48 +39,13 @@ __all__ = [
     "Page",
     "Report",
     "identify_report",
-    "hazard_cautions",
-    "SAFETY_FOOTNOTE",
+    "safety_block",
+    "precautions_text",
     "format_number",
     "format_with_uncertainty",
 ]
 
 _G = 1e3  # kg/mol → g/mol
-
-#: The closing line of every safety box.
-SAFETY_FOOTNOTE = (
-    "These reminders are not a risk assessment. Follow local codes, the site's safety rules "
-    "and the substance's safety data sheet (SDS)."
-)
-
-#: Cautions keyed by the start of a GHS hazard-class abbreviation (common practice of
-#: compressed-gas handling; the classes are those of the GHS / CLP Regulation).
-_CAUTIONS = (
-    ("Press. Gas", "gas under pressure: secure the cylinder, use the regulator made for this gas, "
-                   "close the valve after use"),
-    ("Flam. Gas", "flammable gas: no ignition sources nearby, ventilate, check fittings for leaks"),
-    ("Flam. Liq.", "flammable liquid or vapour: no open flames; heat it only in a water bath"),
-    ("Pyr. Gas", "pyrophoric: ignites on contact with air; handle only in a purged system"),
-    ("Chem. Unst. Gas", "chemically unstable gas: can decompose explosively; avoid heat and "
-                        "pressure shocks"),
-    ("Ox. Gas", "oxidising gas: keep away from combustibles; oil- and grease-free fittings only"),
-    ("Acute Tox.", "toxic: work in a fume hood with gas detection, never alone"),
-    ("Skin Corr.", "corrosive: goggles and gloves; use corrosion-resistant regulators"),
-    ("Eye Dam.", "serious eye damage: wear goggles"),
-    ("Carc.", "carcinogen, mutagen or reproductive toxicant: closed handling, exposure as low "
-              "as possible"),
-    ("Muta.", "carcinogen, mutagen or reproductive toxicant: closed handling, exposure as low "
-              "as possible"),
-    ("Repr.", "carcinogen, mutagen or reproductive toxicant: closed handling, exposure as low "
-              "as possible"),
-    ("STOT", "harms organs by inhalation: do not breathe the gas; use local exhaust"),
-    ("Simple asphyxiant", "asphyxiant: displaces oxygen; ventilate, use an oxygen monitor in "
-                          "closed rooms"),
-    ("Ozone", "harms the ozone layer: recover the gas, do not vent it"),
-    ("Aquatic", "toxic to aquatic life: do not release it"),
-    ("Radioactive", "radioactive: radiation-protection rules apply"),
-)
-
 
 _UNIT_WORDS = {"degC": "°C", "degF": "°F", "percent": "%", "m**3": "m³", "cm**3": "cm³",
                "cm^3": "cm³", "m^3": "m³", "kelvin": "K"}
@@ -156,12 +128,17 @@ class Plot:
 
 @dataclass
 class Bullets:
-    """A titled list of sentences; ``kind`` picks the look (note, warning, safety, error)."""
+    """A titled list of sentences; ``kind`` picks the look (note, warning, safety, error).
+
+    ``lead``, when given, is a sentence printed in bold before the list (what must be read
+    first).
+    """
 
     title: str
     items: list
     kind: str = "note"
     footnote: str = ""
+    lead: str = ""
 
 
 @dataclass
@@ -306,47 +283,50 @@ def _joined(cells, positions) -> str:
 
 
 # -- safety ---------------------------------------------------------------------------------
-def hazard_cautions(hazards) -> list:
-    """Give plain-words cautions for GHS hazard-class abbreviations (no duplicates).
+def safety_block(summary, analysed=True) -> Bullets:
+    """Draw a hazard summary as the safety box.
+
+    The unidentified gas is said first, in bold; then the substances whose hazards apply
+    (grouped when their classes are the same), then the precautions.
+
+    Parameters
+    ----------
+    summary : dict
+        From :func:`molid.candidates.hazards.hazard_summary`.
+    analysed : bool
+        False when no run of the page could be analysed.
+
+    Returns
+    -------
+    Bullets
+    """
+    items = []
+    for names, classes in grouped_substances(summary, "{name}, the " + LABEL_MARK):
+        who = ", ".join(names)
+        items.append(f"{who}: {'; '.join(classes) or 'no GHS hazard class in the library'}")
+    lead = ""
+    if summary["identified"]:
+        title = "Safety: hazard classes (GHS) of the candidates not excluded"
+    else:
+        title = "Safety: UNIDENTIFIED GAS"
+        lead = unidentified_text(analysed)
+        if not items:
+            items.append("No candidate is consistent or marginal and the file gives no label: "
+                         "no substance's hazard classes can be named.")
+    if summary["cautions"]:
+        items.append(precautions_text(summary["cautions"]))
+    return Bullets(title, items, "safety", SAFETY_FOOTNOTE, lead)
+
+
+def precautions_text(cautions) -> str:
+    """Join cautions into one paragraph, a sentence each.
 
     Examples
     --------
-    >>> hazard_cautions(["Flam. Gas 1A", "Press. Gas (Liq.)"])[0][:17]
-    'gas under pressur'
+    >>> precautions_text(["toxic: work in a fume hood", "eye irritant: wear safety glasses"])
+    'Precautions. Toxic: work in a fume hood. Eye irritant: wear safety glasses.'
     """
-    found = []
-    for prefix, caution in _CAUTIONS:
-        if any(str(item).startswith(prefix) for item in hazards) and caution not in found:
-            found.append(caution)
-    return found
-
-
-def _safety_block(candidates, library_hazards, methods) -> Bullets:
-    items = []
-    cautions: list = []
-    for item in candidates:
-        hazards = library_hazards.get(item["name"], [])
-        if hazards:
-            items.append(f"{item['name']}: {'; '.join(hazards)}")
-        else:
-            items.append(f"{item['name']}: no GHS hazard class in the library")
-        for caution in hazard_cautions(hazards):
-            if caution not in cautions:
-                cautions.append(caution)
-    for method in dict.fromkeys(methods):
-        for caution in getattr(METHODS.get(method), "cautions", ()):
-            if caution not in cautions:
-                cautions.append(caution)
-    if cautions:
-        items.append("Precautions: " + "; ".join(cautions) + ".")
-    return Bullets("Safety: hazard classes (GHS) of the leading candidates", items, "safety",
-                   SAFETY_FOOTNOTE)
-
-
-def _safety_candidates(candidates):
-    """Pick the candidates a safety note covers: those not excluded, else the first three."""
-    kept = [item for item in candidates if item["verdict"] in ("consistent", "marginal")]
-    return (kept or candidates[:3])[:4]
+    return "Precautions. " + " ".join(caution[0].upper() + caution[1:] + "." for caution in cautions)
 
 
 # -- label and separation texts -------------------------------------------------------------
@@ -726,11 +706,10 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
     if findings:
         blocks.append(Bullets("What the measurement can and cannot tell", findings, "note"))
     blocks += _message_blocks(result, key, positions, run_labels, columns)
-    if candidates:
-        blocks.append(_safety_block(_safety_candidates(candidates[:top]), library_hazards,
-                                    methods))
-    else:
-        blocks.append(Bullets("Safety", [], "safety", SAFETY_FOOTNOTE))
+    summary = hazard_summary(candidates, library_hazards, label=label, methods=methods,
+                             units=pressure_unit_texts(result.table.units),
+                             analysed=value is not None)
+    blocks.append(safety_block(summary, analysed=value is not None))
     blocks.append(Signature())
     return Page(title, "", blocks, key=str(ident) if kind == "sample" else runs[0])
 

@@ -11,8 +11,15 @@ from __future__ import annotations
 
 import numpy as np
 
-from molid.reports.content import (
+from molid.candidates.hazards import (
     SAFETY_FOOTNOTE,
+    hazard_cautions,
+    method_cautions,
+    pressure_unit_texts,
+    substance_cautions,
+    unit_cautions,
+)
+from molid.reports.content import (
     Bullets,
     Columns,
     Fields,
@@ -31,7 +38,7 @@ from molid.reports.content import (
     _plot_block,
     _signed,
     format_with_uncertainty,
-    hazard_cautions,
+    precautions_text,
 )
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -197,8 +204,8 @@ def _readings_blocks(grading, frame, table_positions, run_labels) -> list:
     return blocks
 
 
-def _unknown_safety(frame, hazards) -> Bullets:
-    """List the hazard classes of the sheet's true gases and the cautions they call for."""
+def _unknown_safety(frame, hazards, units) -> Bullets:
+    """List the hazard classes of the sheet's true gases; cautions for them, the method and the units."""
     gases = [name for name in dict.fromkeys(frame["expected_name"]) if name]
     items = []
     cautions = []
@@ -206,8 +213,11 @@ def _unknown_safety(frame, hazards) -> Bullets:
         classes = hazards.get(name, [])
         items.append(f"{name}: {'; '.join(classes) or 'no GHS hazard class in the library'}")
         cautions += [c for c in hazard_cautions(classes) if c not in cautions]
+    extra = (substance_cautions(gases) + method_cautions(m for m in frame["method"] if m)
+             + unit_cautions(units))
+    cautions += [c for c in dict.fromkeys(extra) if c not in cautions]
     if cautions:
-        items.append("Precautions: " + "; ".join(cautions) + ".")
+        items.append(precautions_text(cautions))
     return Bullets("Safety: the unknown's hazard classes (GHS)", items, "safety",
                    SAFETY_FOOTNOTE)
 
@@ -234,7 +244,8 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top, ty
                 for message in result.warnings[p]]
     if warnings:
         blocks.append(Bullets("Warnings", warnings, "warning"))
-    blocks.append(_unknown_safety(frame, hazards))
+    blocks.append(_unknown_safety(frame, hazards,
+                                  pressure_unit_texts(result.table.units)))
     blocks.append(Signature(("Graded by",)))
     return Page(title, "", blocks, key=str(ident))
 

@@ -46,6 +46,7 @@ figcaption { font-size: 7pt; color: #555; }
 .box.safety { background: #ffece0; border-color: #c85000; }
 .box h2 { margin-top: 0.5mm; } .box ul { margin: 0.5mm 0; padding-left: 5mm; }
 .box .footnote { font-weight: bold; margin: 1mm 0 0 0; }
+.box .lead { font-weight: bold; margin: 0.5mm 0; }
 .signature { display: grid; grid-template-columns: 1fr 1fr; gap: 8mm; margin-top: 6mm; }
 .signature div { border-bottom: 1px solid #000; padding-top: 6mm; }
 .signature span { font-size: 7pt; color: #555; }
@@ -126,8 +127,9 @@ def _block(block, figure_svg) -> str:
             return ""
         items = "".join(f"<li>{escape(item)}</li>" for item in block.items)
         footnote = (f'<p class="footnote">{escape(block.footnote)}</p>' if block.footnote else "")
+        lead = f'<p class="lead">{escape(block.lead)}</p>' if block.lead else ""
         return (f'<div class="box {escape(block.kind)}"><h2>{escape(block.title)}</h2>'
-                f"<ul>{items}</ul>{footnote}</div>")
+                f"{lead}<ul>{items}</ul>{footnote}</div>")
     if isinstance(block, Signature):
         lines = "".join(f"<div><span>{escape(role)} (name, signature, date)</span></div>"
                         for role in block.roles)

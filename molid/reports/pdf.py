@@ -511,7 +511,8 @@ def _bullets(document, block):
     wrapped = [_wrap(document, item, inner) for item in block.items]
     document.set_font(_FONT, "B", 7.2)
     footnote = _wrap(document, block.footnote, inner + 3) if block.footnote else []
-    box = 2.6 + 3.8 + line * (sum(len(lines) for lines in wrapped) + len(footnote))
+    lead = _wrap(document, block.lead, inner + 3) if block.lead else []
+    box = 2.6 + 3.8 + line * (sum(len(lines) for lines in wrapped) + len(footnote) + len(lead))
     if _room(document) < min(box, 40):
         document.add_page()
     top = document.get_y()
@@ -526,6 +527,10 @@ def _bullets(document, block):
     document.set_xy(document.l_margin + 2.5, top + 1.2)
     document.set_font(_FONT, "B", 8)
     document.cell(inner, 3.8, printable(block.title), new_x="LEFT", new_y="NEXT")
+    document.set_font(_FONT, "B", 7.2)
+    for text in lead:
+        document.set_x(document.l_margin + 2.5)
+        document.cell(inner + 3, line, text, new_x="LEFT", new_y="NEXT")
     document.set_font(_FONT, "", 7.2)
     for lines in wrapped:
         document.set_x(document.l_margin + 2.5)
