@@ -128,12 +128,10 @@ def unit_cautions(unit_texts) -> list:
 
 
 def method_cautions(methods) -> list:
-    """Give the apparatus cautions of the methods used: those each method declares, then the file's."""
+    """Give the apparatus cautions the methods used declare (molid/methods/)."""
     found: list = []
     for method in dict.fromkeys(methods):
         _add(found, getattr(METHODS.get(method), "cautions", ()))
-        _add(found, [entry["caution"] for entry in load_cautions()["method"]
-                     if entry["name"] == method])
     return found
 
 
@@ -177,18 +175,20 @@ def hazard_summary(candidates, library_hazards, *, label=None, methods=(), units
     -------
     dict
         ``identified`` (some candidate consistent or marginal), ``substances`` (``name``,
-        ``verdict``, ``ghs``, ``label``: true for the label's substance, listed only when the
-        gas is unidentified), ``cautions`` (plain words) and ``note``.
+        ``verdict``, ``ghs``, ``label``: true for the label's substance, listed, marked as not
+        confirmed, whenever the measurement does not find it consistent or marginal),
+        ``cautions`` (plain words) and ``note``.
     """
     kept = [item for item in candidates if item["verdict"] in _NOT_EXCLUDED]
     substances = [_substance(item["name"], item["verdict"], library_hazards) for item in kept]
     identified = bool(kept)
     unidentified = load_cautions()["unidentified"]
     cautions: list = []
+    label_name = (label.get("name") or label["expected"]) if label else None
+    # the label's substance may be in the cylinder whatever the measurement says: list it, marked
+    if label_name and label_name not in {item["name"] for item in substances}:
+        substances.append(_substance(label_name, label["verdict"], library_hazards, label=True))
     if not identified:
-        if label:
-            substances.append(_substance(label.get("name") or label["expected"],
-                                         label["verdict"], library_hazards, label=True))
         cautions.append(unidentified["caution"])
     _add(cautions, hazard_cautions(code for item in substances for code in item["ghs"]))
     _add(cautions, substance_cautions(item["name"] for item in substances))

@@ -102,5 +102,7 @@ METHOD = Method(
               "gas-constant-units"),
     simulate_readings=simulate_readings,
     gains_weight_when_filled=False,
-    cautions=(),
+    # common practice: a regulator can blow the plunger out of a glass syringe
+    cautions=("never fill a glass syringe straight from a cylinder regulator: use a low-pressure "
+              "stage (bag, balloon or bubbler), or the plunger can be blown out",),
 )

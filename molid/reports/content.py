@@ -636,7 +636,13 @@ def _result_lines(value, u, origin, candidates) -> list:
     shown, half = round(value, decimals), round(expanded, decimals)
     lines.append(f"Interval {shown - half:.{decimals}f} to {shown + half:.{decimals}f}"
                  f" g/mol; standard uncertainty u = {u:.2g} g/mol; {origin}.")
-    if candidates:
+    if candidates and candidates[0]["verdict"] not in ("consistent", "marginal"):
+        nearest = candidates[0]
+        lines.append(
+            "No candidate is consistent with this result: the gas is unidentified (see the safety "
+            f"box). The nearest library entry, {nearest['name']}, is {nearest['verdict']} "
+            f"(z = {_signed(nearest['z'])}).")
+    elif candidates:
         best = candidates[0]
         measured = best["measured"]
         lines.append(

@@ -78,7 +78,7 @@ def test_classes_outside_the_ghs_say_so():
 def test_every_entry_has_a_caution_and_a_source():
     """Checks behaviour: each entry of the data file carries a source and a non-empty caution."""
     data = load_cautions()
-    for group in ("ghs", "substance", "method", "pressure_unit"):
+    for group in ("ghs", "substance", "pressure_unit"):
         for entry in data[group]:
             assert entry["caution"].strip() and entry["source"].strip(), entry
     assert data["unidentified"]["handling"] and data["unidentified"]["source"]
