@@ -43,7 +43,7 @@ def _flat(text):
 
 
 def test_one_page_per_sample_in_file_order(demo_pdf):
-    """The demo file's seven samples give seven pages, in the order they appear in the file."""
+    """Checks behaviour: the demo file's seven samples give seven pages, in file order."""
     path, result = demo_pdf
     pages = _pages(path)
     samples = list(result.sample_runs)
@@ -53,7 +53,7 @@ def test_one_page_per_sample_in_file_order(demo_pdf):
 
 
 def test_run_ids_only_on_their_samples_page(demo_pdf):
-    """Every run id is printed on its sample's page and on no other page."""
+    """Checks behaviour: every run id is printed on its sample's page and on no other page."""
     path, result = demo_pdf
     pages = _pages(path)
     for number, members in enumerate(result.sample_runs.values()):
@@ -94,7 +94,7 @@ def test_physics_on_the_page_is_the_trade_expectation(demo_pdf):
 
 
 def test_label_check_and_separation_notes_printed(demo_pdf):
-    """A wrong label is flagged on its page; the CO2/N2O page says what would separate them."""
+    """Checks behaviour: a wrong label is flagged on its page; the CO2/N2O page says what separates them."""
     path, result = demo_pdf
     pages = [_flat(text) for text in _pages(path)]
     names = list(result.sample_runs)
@@ -125,7 +125,7 @@ def test_safety_box_lists_ghs_classes_and_sds_note(demo_pdf):
 
 
 def test_header_fields_from_free_columns(demo_pdf):
-    """Operator and date come from the file's own columns."""
+    """Checks behaviour: operator and date come from the file's own columns."""
     path, _ = demo_pdf
     text = _flat(_pages(path)[0])
     assert "D. Okonkwo-Hale, R. Lindqvist" in text and "2026-11-09" in text
@@ -157,7 +157,7 @@ def _write(path, rows):
 
 
 def test_hostile_run_id_is_escaped_in_html(tmp_path):
-    """A run id holding markup appears only escaped in HTML (html.escape), never as a tag."""
+    """Checks behaviour: a run id holding markup appears only escaped in HTML, never as a tag."""
     source = _write(tmp_path / "hostile.csv", [
         ROW.format(run=f'"{HOSTILE}"', sample="", filled="148.2020", operator="<b>x</b>"),
     ])
@@ -173,7 +173,7 @@ def test_hostile_run_id_is_escaped_in_html(tmp_path):
 
 
 def test_user_text_drawn_literally_in_pdf(tmp_path):
-    """Markup in user cells prints as the characters typed (fpdf2 text, markdown off)."""
+    """Checks behaviour: markup in user cells prints as the characters typed (fpdf2 text, markdown off)."""
     source = _write(tmp_path / "hostile.csv", [
         ROW.format(run=f'"{HOSTILE}"', sample="**S1**", filled="148.2020", operator="<b>x</b>"),
     ])
@@ -184,7 +184,7 @@ def test_user_text_drawn_literally_in_pdf(tmp_path):
 
 
 def test_runs_without_sample_get_a_page_each_and_errors_exit_1(tmp_path):
-    """Runs with no sample get their own page; a bad row is reported on its page, exit 1."""
+    """Checks behaviour: runs with no sample get a page each; a bad row is reported on its page, exit 1."""
     source = _write(tmp_path / "runs.csv", [
         ROW.format(run="r1", sample="", filled="148.2020", operator="A"),
         ROW.format(run="r2", sample="", filled="oops", operator="A"),
@@ -205,7 +205,7 @@ def _small(tmp_path):
 
 
 def test_refuses_to_overwrite_without_force(tmp_path, capsys):
-    """An existing output is kept (exit 2) unless --force is given."""
+    """Checks behaviour: an existing output is kept (exit 2) unless --force is given."""
     source = _small(tmp_path)
     out = tmp_path / "r.pdf"
     out.write_bytes(b"keep me")
@@ -217,7 +217,7 @@ def test_refuses_to_overwrite_without_force(tmp_path, capsys):
 
 
 def test_format_follows_the_suffix_unless_given(tmp_path):
-    """.html gives HTML; --format pdf overrides the suffix."""
+    """Checks behaviour: .html gives HTML; --format pdf overrides the suffix."""
     source = _small(tmp_path)
     html_out, forced = tmp_path / "r.html", tmp_path / "r2.html"
     assert main(["report", str(source), "-o", str(html_out)]) == 0
@@ -227,7 +227,7 @@ def test_format_follows_the_suffix_unless_given(tmp_path):
 
 
 def test_html_has_a_section_and_a_plot_per_sample(tmp_path):
-    """The HTML report has one page section per sample, each with an embedded SVG plot."""
+    """Checks behaviour: the HTML report has a section per sample, each with an embedded SVG plot."""
     out = tmp_path / "r.html"
     assert main(["report", str(DEMO), "--profile", str(PROFILE), "-o", str(out)]) == 0
     text = out.read_text(encoding="utf-8")
@@ -242,7 +242,7 @@ def test_html_has_a_section_and_a_plot_per_sample(tmp_path):
 
 
 def test_plot_renders_with_pdftoppm(tmp_path, demo_pdf):
-    """A page rasterises (poppler's pdftoppm) and the plot area is not blank."""
+    """Checks behaviour: a page rasterises (poppler's pdftoppm) and the plot area is not blank."""
     if shutil.which("pdftoppm") is None:
         pytest.skip("pdftoppm (poppler-utils) is not installed")
     path, _ = demo_pdf
@@ -262,7 +262,7 @@ def test_plot_renders_with_pdftoppm(tmp_path, demo_pdf):
 # that `-m "not slow"` can leave it out of a quick run.
 @pytest.mark.slow
 def test_two_hundred_runs_two_hundred_pages(tmp_path):
-    """A file of 200 runs without samples makes 200 pages; the time is measured and bounded."""
+    """Checks behaviour: 200 runs without samples make 200 pages; the time is measured and bounded."""
     rng = np.random.default_rng(7)
     filled = 148.2020 + rng.normal(0, 0.0003, 200)
     rows = [ROW.format(run=f"R{k:03d}", sample="", filled=f"{value:.4f}", operator="QA")
@@ -296,7 +296,7 @@ def graded_pdf(tmp_path_factory):
 
 
 def test_graded_report_has_a_sheet_per_student_then_the_summary(graded_pdf):
-    """One sheet per student in file order, then the class summary pages."""
+    """Checks behaviour: one sheet per student in file order, then the class summary pages."""
     path, grading = graded_pdf
     pages = [_flat(text) for text in _pages(path)]
     students = list(dict.fromkeys(grading.grades["student"]))
@@ -309,7 +309,7 @@ def test_graded_report_has_a_sheet_per_student_then_the_summary(graded_pdf):
 
 
 def test_student_sheet_shows_points_recomputation_and_diagnosis(graded_pdf):
-    """Each sheet carries the student's run, points, recomputed M ± U and diagnosis words."""
+    """Checks behaviour: each sheet carries the student's run, points, recomputed M ± U and diagnosis."""
     path, grading = graded_pdf
     pages = [_flat(text) for text in _pages(path)]
     for number, row in enumerate(grading.grades.itertuples(index=False)):
@@ -341,7 +341,7 @@ def test_percent_error_on_sheet_matches_standard_atomic_weight(graded_pdf):
 
 
 def test_student_and_reported_columns_make_a_file_graded(tmp_path):
-    """Without --key, a file with student and reported_molar_mass columns is graded."""
+    """Checks behaviour: without --key, a file with student and reported_molar_mass columns is graded."""
     pytest.importorskip("molid.teaching.grading")
     source = tmp_path / "s.csv"
     source.write_text(
@@ -357,7 +357,7 @@ def test_student_and_reported_columns_make_a_file_graded(tmp_path):
 
 
 def test_characters_without_a_glyph_print_as_code_points(tmp_path):
-    """A run id in a script DejaVu Sans lacks prints as [U+XXXX], not as a blank.
+    """Checks behaviour: a run id in a script DejaVu Sans lacks prints as [U+XXXX], not as a blank.
 
     U+6D4B is the CJK ideograph 测 (Unicode Standard, CJK Unified Ideographs block).
     """
@@ -371,7 +371,7 @@ def test_characters_without_a_glyph_print_as_code_points(tmp_path):
 
 
 def test_same_input_same_bytes_with_source_date_epoch(tmp_path, monkeypatch):
-    """With SOURCE_DATE_EPOCH set, two PDF runs are byte-identical (reproducible-builds.org)."""
+    """Checks behaviour: with SOURCE_DATE_EPOCH set (reproducible-builds.org), two PDFs are identical."""
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1764547200")
     source = _write(tmp_path / "two.csv", [
         ROW.format(run="a1", sample="S", filled="148.2020", operator="QA"),
@@ -385,7 +385,7 @@ def test_same_input_same_bytes_with_source_date_epoch(tmp_path, monkeypatch):
 
 
 def test_top_limits_the_candidate_table(tmp_path):
-    """--top 2 lists two ranked candidates per page."""
+    """Checks behaviour: --top 2 lists two ranked candidates per page."""
     source = _write(tmp_path / "two.csv", [
         ROW.format(run="t1", sample="", filled="148.2020", operator="QA"),
         ROW.format(run="t2", sample="", filled="148.2024", operator="QA"),
@@ -398,7 +398,7 @@ def test_top_limits_the_candidate_table(tmp_path):
 
 
 def test_plots_drawn_in_workers_match_plots_drawn_here(tmp_path, monkeypatch):
-    """A long report's plots come from worker processes; the PDF is byte-identical to serial."""
+    """Checks behaviour: a long report's plots come from worker processes; the PDF equals the serial one."""
     import molid.reports.pdf as pdf_writer
     from molid.reports import build_report, render_report
 
