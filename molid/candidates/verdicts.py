@@ -5,8 +5,8 @@ The deviation ``z = (M·Z_c − M_c)/u`` of a candidate c (see
 
 ========== =====================================================
 consistent |z| ≤ 2
-marginal   2 < |z| ≤ 3
-excluded   |z| > 3
+marginal   2 < |z| < 3
+excluded   |z| ≥ 3
 condenses  the pure substance would be liquid at the run's T and p
 ========== =====================================================
 
@@ -41,7 +41,7 @@ __all__ = [
 VERDICTS = ("consistent", "marginal", "excluded", "condenses")
 #: |z| at or below which a candidate is consistent: ISO 13528:2015, 9.4.1, "satisfactory" |z| ≤ 2.0.
 CONSISTENT_LIMIT = 2.0
-#: |z| above which a candidate is excluded: ISO 13528:2015, 9.4.1, "action signal" at |z| ≥ 3.0.
+#: |z| at or above which a candidate is excluded: ISO 13528:2015, 9.4.1, "action signal" at |z| ≥ 3.0.
 MARGINAL_LIMIT = 3.0
 #: The true candidate within 2u and the other beyond 3u: the gap must be 5u.
 SEPARATION_FACTOR = CONSISTENT_LIMIT + MARGINAL_LIMIT
@@ -57,7 +57,7 @@ def verdicts(z, condenses) -> np.ndarray:
     ['consistent', 'marginal', 'excluded', 'condenses']
     """
     size = np.abs(z)
-    codes = np.where(size <= CONSISTENT_LIMIT, 0, np.where(size <= MARGINAL_LIMIT, 1, 2))
+    codes = np.where(size <= CONSISTENT_LIMIT, 0, np.where(size < MARGINAL_LIMIT, 1, 2))
     codes = np.where(np.isnan(size), 2, codes)
     return np.where(condenses, 3, codes)
 
