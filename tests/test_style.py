@@ -1,6 +1,7 @@
 """The code style the project follows, enforced: ruff with numpydoc docstring rules (pyproject.toml)."""
 
 import ast
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -76,3 +77,21 @@ def test_functions_are_short():
             if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef))
             and node.end_lineno - node.lineno + 1 > 80]
     assert long == []
+
+
+def test_packages_import_only_packages_below_them():
+    """Checks behaviour: the layer order of DEVELOPERS.md's tree holds (imports point down only)."""
+    text = (ROOT / "DEVELOPERS.md").read_text(encoding="utf-8")
+    order = [match.group(1) for match in re.finditer(r"^  ([a-z_]+)(?:/|\.py)\s", text, re.MULTILINE)]
+    rank = {name: position for position, name in enumerate(order)}
+    upward = []
+    modules = _modules()
+    for name, (path, tree) in modules.items():
+        parts = name.split(".")
+        if len(parts) < 2 or parts[1] not in rank:
+            continue
+        for other in _imports(name, path, tree, modules):
+            layer = other.split(".")[1] if other.count(".") else None
+            if layer in rank and layer != parts[1] and rank[layer] < rank[parts[1]]:
+                upward.append(f"{name} imports {other}")
+    assert len(order) >= 10 and upward == []
