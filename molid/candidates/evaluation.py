@@ -11,8 +11,9 @@ The deviation ``z = (M·Z_c − M_c)/u`` then gives the verdict (see
 References
 ----------
 JCGM 100:2008 (GUM), 5.1.2, for the propagation; C. Tsonopoulos, AIChE J. 20
-(1974) 263, for B(T); D. Ambrose and J. Walton, Pure Appl. Chem. 61 (1989)
-1395, for the vapour pressure that decides ``condenses``.
+(1974) 263, for B(T); the substance's own vapour-pressure equation
+(:mod:`molid.candidates.vapour_pressures`), or D. Ambrose and J. Walton, Pure Appl.
+Chem. 61 (1989) 1395, for the vapour pressure that decides ``condenses``.
 """
 
 from __future__ import annotations
@@ -25,6 +26,7 @@ from molid.candidates.model_terms import (
     virial_truncation_uncertainty,
     virial_uncertainty,
 )
+from molid.candidates.vapour_pressures import equation_table, saturation_pressure
 from molid.physics.constants import GAS_CONSTANT
 from molid.physics.vapour_pressure import vapour_pressure_ambrose_walton
 from molid.physics.virial import second_virial
@@ -32,7 +34,6 @@ from molid.physics.water import saturation_pressure_water
 
 __all__ = [
     "NEAR_SATURATION",
-    "WATER_SATURATION_RELATIVE_UNCERTAINTY",
     "candidate_constants",
     "evaluate_candidates",
     "evaluate_in_blocks",
@@ -41,10 +42,6 @@ __all__ = [
 #: A candidate whose vapour pressure is within this factor above the gas pressure
 #: gets a note: close to condensing, its real-gas correction is less certain.
 NEAR_SATURATION = 1.25
-
-#: Relative standard uncertainty of the Wagner–Pruss saturation pressure (about 1e-4
-#: of IAPWS-95 over 0–100 °C, as the water tests measure), with a margin.
-WATER_SATURATION_RELATIVE_UNCERTAINTY = 2e-4
 
 #: Runs evaluated at once: blocks whose (runs × candidates) arrays fit in the CPU's
 #: cache run about twice as fast as one large block.
@@ -228,6 +225,8 @@ def candidate_constants(library) -> dict:
         "absolute_B": np.where(has, virial_uncertainty(classes, 0.0), 0.0),
         "truncation": np.where(has, truncation, 0.0),
         "relative_saturation": vapour_pressure_relative_uncertainty(classes),
+        "vapour_equations": equation_table(library["name"].to_numpy(dtype=object),
+                                           library["cas"].to_numpy(dtype=object)),
     }
     _CONSTANTS_CACHE.clear()
     _CONSTANTS_CACHE[key] = (library, constants)
@@ -239,8 +238,8 @@ def _saturation(T, p, constants):
 
     The vapour pressure rises with temperature, so a candidate whose estimate at
     the coldest run is already far above the highest pressure cannot condense in
-    any run; only the others are evaluated run by run. Water uses its own
-    saturation equation (Wagner and Pruss 2002) rather than the estimate.
+    any run; only the others are evaluated run by run, with their own equations where
+    known (:func:`molid.candidates.vapour_pressures.saturation_pressure`).
     """
     has, hill = constants["has"], constants["hill"]
     critical_temperature = constants["critical_temperature"]
@@ -259,18 +258,12 @@ def _saturation(T, p, constants):
         estimate_cold = np.where(water, saturation_pressure_water(min(coldest, 647.0)),
                                  estimate_cold)
     relative = constants["relative_saturation"]
-    needed = has & (estimate_cold * (1.0 - 3.0 * relative) < highest * NEAR_SATURATION * 1.01)
+    # a margin for the substance's own equation, which can sit a few percent from the estimate
+    needed = has & (estimate_cold * (1.0 - 3.0 * relative) < highest * NEAR_SATURATION * 1.2)
     columns = np.flatnonzero(needed)
     if len(columns):
-        values = vapour_pressure_ambrose_walton(T, critical_temperature[columns],
-                                                critical_pressure[columns], acentric[columns])
-        water_columns = water[columns]
-        if water_columns.any():
-            values[:, water_columns] = saturation_pressure_water(
-                np.broadcast_to(T, (T.shape[0], int(water_columns.sum()))))
-        saturation[:, columns] = values
-        u_relative[:, columns] = np.where(water_columns, WATER_SATURATION_RELATIVE_UNCERTAINTY,
-                                          relative[columns])
+        saturation[:, columns], u_relative[:, columns] = saturation_pressure(
+            T, constants, columns, relative[columns])
     return saturation, u_relative
 
 
