@@ -165,18 +165,18 @@ def _check_fractions(values: dict, by_name: dict[str, Header], problems: RowProb
 
 def _check_mass_difference(values: dict, units: dict[str, ColumnUnit], text: pd.DataFrame,
                            problems: RowProblems) -> None:
-    """Error where a vessel that must gain weight when filled (its method says so) does not."""
-    difference = values["mass_filled"] - values["mass_tare"]
-    method = pd.Series(text["method"].to_numpy(dtype=object), dtype=object)
-    registered = REGISTERED_METHODS.items()
-    must_gain = method.map({name: entry.gains_weight_when_filled for name, entry in registered})
-    vessel = method.map({name: entry.vessel for name, entry in registered}).to_numpy(dtype=object)
-    problems.error(
-        must_gain.fillna(False).to_numpy(dtype=bool) & (difference <= 0),
-        lambda i: f"columns 'mass_filled'/'mass_tare': {vessel[i]} cannot weigh less "
-        f"or the same when filled (difference {difference[i] / units['mass_tare'].scale:.6g} "
-        f"{units['mass_tare'].text}); check the tare and filled readings",
-    )
+    """Errors where a row's readings are impossible for its method (each method's own checks)."""
+    method = text["method"].to_numpy(dtype=object)
+
+    def written(name, value):
+        return f"{value / units[name].scale:.6g} {units[name].text}"
+
+    for name, entry in REGISTERED_METHODS.items():
+        mine = method == name
+        if not mine.any():
+            continue
+        for mask, message in entry.row_checks(values, written):
+            problems.error(mine & mask, message)
 
 
 def _as_written(value_si: float, unit: ColumnUnit) -> float:

@@ -14,7 +14,13 @@ J. Res. NBS 92 (1987) 239 (buoyancy of objects of no added volume).
 
 from __future__ import annotations
 
-from molid.methods.base import DEFAULT_GLASS_MASS, Method, conventional_mass_factor
+from molid.methods.base import (
+    DEFAULT_GLASS_MASS,
+    Method,
+    conventional_mass_factor,
+    no_row_checks,
+    same_volume,
+)
 from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
 
 __all__ = ["METHOD", "gas_mass", "gas_mass_without_displaced_air", "simulate_readings"]
@@ -147,6 +153,7 @@ METHOD = Method(
     mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "no-buoyancy", "masses-swapped",
               "gas-constant-units"),
     simulate_readings=simulate_readings,
-    gains_weight_when_filled=False,
+    row_checks=no_row_checks,
+    gas_volume=same_volume,
     cautions=("evacuated glass can implode: shield or tape the bulb and wear eye protection",),
 )

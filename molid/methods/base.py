@@ -18,14 +18,17 @@ from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
 
 __all__ = [
     "CANDIDATE_CORRECTIONS",
+    "same_volume",
+    "no_row_checks",
     "DEFAULT_GLASS_MASS",
     "Method",
     "conventional_mass_factor",
     "missing_parts",
 ]
 
-#: Per-candidate corrections the candidate evaluation knows how to apply.
-CANDIDATE_CORRECTIONS = ("compressibility",)
+#: Per-candidate corrections the candidate evaluation knows how to apply: the candidate's
+#: own compressibility factor, and (condensed-vapour flask) the air its own vapour keeps out.
+CANDIDATE_CORRECTIONS = ("compressibility", "residual-vapour")
 
 #: Mass of the glass of a simulated vessel [kg] (any value: it cancels).
 DEFAULT_GLASS_MASS = 0.15234
@@ -58,6 +61,16 @@ def conventional_mass_factor(air_density):
     return 1.0 - air_density / CONVENTIONAL_MASS_DENSITY
 
 
+def same_volume(volume, temperature):
+    """Return the volume unchanged: a vessel used at the temperature it was measured at [m³]."""
+    return volume + 0.0 * temperature
+
+
+def no_row_checks(values, written):
+    """Return no checks: every reading this method can take is possible."""
+    return []
+
+
 @dataclass(frozen=True)
 class Method:
     """One measurement method: everything the reader, model, diagnosis and simulator need.
@@ -87,11 +100,19 @@ class Method:
     simulate_readings : callable
         ``simulate_readings(gas_mass, air_density, volume, glass_mass, outer_volume)``
         → (tare, filled) balance indications [kg] of an ideal balance.
-    gains_weight_when_filled : bool
-        The filled reading must exceed the tare whatever the gas (nothing
-        leaves the vessel as the gas enters), so a smaller one is a row error.
+    row_checks : callable
+        ``row_checks(values, written)`` → list of ``(mask, message)``: the rows
+        (boolean array over the file) whose readings this method cannot have
+        produced, and ``message(i)`` for row i. ``values`` are the file's SI
+        arrays; ``written(name, value)`` gives a value back in the unit the user wrote.
     cautions : tuple of str
         Safety cautions for the apparatus, printed in reports.
+    gas_volume : callable
+        ``gas_volume(volume, temperature)`` → the gas's volume at the gas
+        temperature [m³] from the volume the run gives; complex-step safe.
+    headline_model : str
+        What the run's own molar mass (before any candidate's corrections) is,
+        as printed beside it ("ideal gas").
     """
 
     name: str
@@ -104,8 +125,10 @@ class Method:
     candidate_corrections: tuple
     mistakes: tuple
     simulate_readings: Callable
-    gains_weight_when_filled: bool
+    row_checks: Callable
     cautions: tuple
+    gas_volume: Callable = None
+    headline_model: str = "ideal gas"
 
 
 def missing_parts(method: Method) -> list[str]:
@@ -128,7 +151,7 @@ def missing_parts(method: Method) -> list[str]:
             problems.append(f"{field.name} is missing")
     if not isinstance(method.name, str) or not method.name:
         problems.append("name is empty")
-    for name in ("gas_mass", "simulate_readings"):
+    for name in ("gas_mass", "simulate_readings", "row_checks", "gas_volume"):
         if not callable(getattr(method, name, None)):
             problems.append(f"{name} is not callable")
     unknown = set(method.required_inputs or ()) | set(method.optional_inputs or ())

@@ -13,7 +13,7 @@ OIML D 28:2004, Conventional value of the result of weighing in air.
 
 from __future__ import annotations
 
-from molid.methods.base import DEFAULT_GLASS_MASS, Method, conventional_mass_factor
+from molid.methods.base import DEFAULT_GLASS_MASS, Method, conventional_mass_factor, same_volume
 from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
 
 __all__ = ["METHOD", "gas_mass", "simulate_readings"]
@@ -111,6 +111,28 @@ def simulate_readings(gas_mass, air_density, volume, glass_mass=DEFAULT_GLASS_MA
     return force_tare * weights_per_force, force_filled * weights_per_force
 
 
+def row_checks(values, written):
+    """Rows whose filled bulb does not weigh more than the evacuated one.
+
+    Parameters
+    ----------
+    values : dict of numpy.ndarray
+        The file's readings in SI units.
+    written : callable
+        ``written(name, value)``: a SI value as text in the unit the user wrote.
+
+    Returns
+    -------
+    list of (numpy.ndarray, callable)
+        The rows at fault and the message for row i.
+    """
+    difference = values["mass_filled"] - values["mass_tare"]
+    return [(difference <= 0, lambda i: (
+        "columns 'mass_filled'/'mass_tare': an evacuated bulb cannot weigh less or the same "
+        f"when filled (difference {written('mass_tare', difference[i])}); check the tare and "
+        "filled readings"))]
+
+
 METHOD = Method(
     name="evacuated-bulb",
     summary="tare is the evacuated bulb",
@@ -123,6 +145,7 @@ METHOD = Method(
     mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "masses-swapped",
               "gas-constant-units"),
     simulate_readings=simulate_readings,
-    gains_weight_when_filled=True,
+    row_checks=row_checks,
+    gas_volume=same_volume,
     cautions=("evacuated glass can implode: shield or tape the bulb and wear eye protection",),
 )

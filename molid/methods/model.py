@@ -150,7 +150,10 @@ def measurement_model(
     dict of numpy.ndarray
         ``molar_mass`` [kg/mol] of the dry gas under the ideal gas law, and the
         intermediate ``air_density`` [kg/m³], ``gas_mass`` [kg] (dry gas),
-        ``water_mass`` [kg] and ``dry_pressure`` [Pa].
+        ``water_mass`` [kg], ``dry_pressure`` [Pa] and ``residual_vapour_factor``
+        [kg/(mol·Pa)]: ρa·V·R·T/(p²·V_T), which times a candidate's vapour
+        pressure at room temperature gives the residual-vapour correction of a
+        condensed-vapour flask (used only for methods that declare it).
     """
     room_temperature = np.where(air_temperature_given, air_temperature, temperature)
     room_pressure = np.where(air_pressure_given, air_pressure, pressure)
@@ -158,19 +161,24 @@ def measurement_model(
         1.0 + air_density_formula
     )
     total_mass = gas_mass(mass_tare, mass_filled, volume, air_density, method_code)
+    gas_volume = select_by_method(method_code, lambda method: method.gas_volume(volume, temperature))
     if np.any(wet):
         with np.errstate(all="ignore"):  # dry rows at odd temperatures need no p_sat
             saturation = saturation_pressure_water(temperature)
         water_pressure = np.where(wet, saturation * (1.0 + water_vapour), 0.0)
     else:
         water_pressure = 0.0 * water_vapour
-    water_mass = water_pressure * volume * MOLAR_MASS_WATER / (GAS_CONSTANT * temperature)
+    water_mass = water_pressure * gas_volume * MOLAR_MASS_WATER / (GAS_CONSTANT * temperature)
     dry_mass = total_mass - water_mass
     dry_pressure = pressure - water_pressure
     return {
-        "molar_mass": ideal_gas_molar_mass(dry_mass, temperature, dry_pressure, volume),
+        "molar_mass": ideal_gas_molar_mass(dry_mass, temperature, dry_pressure, gas_volume),
         "air_density": air_density,
         "gas_mass": dry_mass,
         "water_mass": water_mass,
         "dry_pressure": dry_pressure,
+        # molar mass per pascal of a candidate's vapour pressure left in a cooled flask
+        # (the residual-vapour correction is this times p_sat(T_room); see vapour_flask)
+        "residual_vapour_factor": air_density * volume * GAS_CONSTANT * temperature
+        / (pressure * pressure * gas_volume),
     }

@@ -15,7 +15,7 @@ OIML D 28:2004, Conventional value of the result of weighing in air.
 from __future__ import annotations
 
 from molid.methods.air_tare_bulb import gas_mass, gas_mass_without_displaced_air
-from molid.methods.base import DEFAULT_GLASS_MASS, Method
+from molid.methods.base import DEFAULT_GLASS_MASS, Method, no_row_checks, same_volume
 from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
 
 __all__ = ["METHOD", "simulate_readings"]
@@ -101,8 +101,9 @@ METHOD = Method(
     mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "no-buoyancy", "masses-swapped",
               "gas-constant-units"),
     simulate_readings=simulate_readings,
-    gains_weight_when_filled=False,
+    row_checks=no_row_checks,
     # common practice: a regulator can blow the plunger out of a glass syringe
+    gas_volume=same_volume,
     cautions=("never fill a glass syringe straight from a cylinder regulator: use a low-pressure "
               "stage (bag, balloon or bubbler), or the plunger can be blown out",),
 )
