@@ -100,6 +100,15 @@ def ideal_gas_molar_mass(mass, temperature, pressure, volume):
     return mass * GAS_CONSTANT * temperature / (pressure * volume)
 
 
+def _water_pressure(wet, temperature, water_vapour):
+    """Partial pressure of the water vapour of a wet gas [Pa]; 0 for a dry one."""
+    if not np.any(wet):
+        return 0.0 * water_vapour
+    with np.errstate(all="ignore"):  # dry rows at odd temperatures need no p_sat
+        saturation = saturation_pressure_water(temperature)
+    return np.where(wet, saturation * (1.0 + water_vapour), 0.0)
+
+
 def measurement_model(
     mass_tare,
     mass_filled,
@@ -162,12 +171,7 @@ def measurement_model(
     )
     total_mass = gas_mass(mass_tare, mass_filled, volume, air_density, method_code)
     gas_volume = select_by_method(method_code, lambda method: method.gas_volume(volume, temperature))
-    if np.any(wet):
-        with np.errstate(all="ignore"):  # dry rows at odd temperatures need no p_sat
-            saturation = saturation_pressure_water(temperature)
-        water_pressure = np.where(wet, saturation * (1.0 + water_vapour), 0.0)
-    else:
-        water_pressure = 0.0 * water_vapour
+    water_pressure = _water_pressure(wet, temperature, water_vapour)
     water_mass = water_pressure * gas_volume * MOLAR_MASS_WATER / (GAS_CONSTANT * temperature)
     dry_mass = total_mass - water_mass
     dry_pressure = pressure - water_pressure
