@@ -15,7 +15,9 @@ from molid.io.columns import METHODS
 from molid.io.headers import Header
 from molid.io.problems import RowProblems
 from molid.io.units import ColumnUnit, resolve_unit
+from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import METHODS as REGISTERED_METHODS
+from molid.methods.registry import REQUIRED_EVERYWHERE
 
 __all__ = ["check_run_ids", "check_methods", "check_ranges"]
 
@@ -169,14 +171,16 @@ def _check_mass_difference(values: dict, units: dict[str, ColumnUnit], text: pd.
     method = text["method"].to_numpy(dtype=object)
 
     def written(name, value):
-        return f"{value / units[name].scale:.6g} {units[name].text}"
+        return f"{_as_written(value, units[name]):.6g} {units[name].text}"
 
     for name, entry in REGISTERED_METHODS.items():
         mine = method == name
         if not mine.any():
             continue
+        # rows already in error (a missing input filled by a default) are not judged again
+        clean = np.fromiter((not row for row in problems.errors), dtype=bool, count=len(method))
         for mask, message in entry.row_checks(values, written):
-            problems.error(mine & mask, message)
+            problems.error(mine & clean & mask, message)
 
 
 def _as_written(value_si: float, unit: ColumnUnit) -> float:
@@ -206,3 +210,37 @@ def _pressure_hint(value_si: float, unit: ColumnUnit) -> str:
         if 80e3 <= written * resolve_unit("pressure", candidate).scale <= 110e3:
             return f"; the number would be an ordinary room pressure in {candidate}"
     return ""
+
+
+def check_method_inputs(method: pd.Series, blanks: dict, by_name: dict[str, Header],
+                        problems: RowProblems) -> None:
+    """Error where a run's method needs an input that its row leaves blank or the file lacks.
+
+    Parameters
+    ----------
+    method : pandas.Series
+        Each row's method name.
+    blanks : dict of numpy.ndarray
+        Per measured column, True where the row gives no usable value.
+    by_name : dict of Header
+        The file's headers by column name.
+    problems : RowProblems
+        Where the errors go.
+    """
+    names = method.to_numpy(dtype=object)
+    for method_name, entry in REGISTERED_METHODS.items():
+        mine = names == method_name
+        if not mine.any():
+            continue
+        for name in entry.required_inputs:
+            if name in REQUIRED_EVERYWHERE:
+                continue  # the file-level check and the cell check already cover these
+            label = INPUT_LABELS.get(name, name)
+            if name not in by_name:
+                problems.error(mine, lambda i, name=name, label=label, method_name=method_name: (
+                    f"column '{name}' is missing; a {method_name} run needs it ({label})"))
+            else:
+                original = by_name[name].original
+                problems.error(mine & blanks[name], lambda i, original=original, label=label,
+                               method_name=method_name: (
+                    f"column '{original}': the cell is empty; a {method_name} run needs it ({label})"))

@@ -28,7 +28,7 @@ from molid.io.cells import (
     read_wet,
     text_columns,
 )
-from molid.io.checks import check_methods, check_ranges, check_run_ids
+from molid.io.checks import check_method_inputs, check_methods, check_ranges, check_run_ids
 from molid.io.defaults import fill_defaults
 from molid.io.headers import measured_units, parse_header, resolve_headers, uncertainty_columns
 from molid.io.problems import InputError, RowProblems
@@ -359,8 +359,8 @@ def parse_runs(
     wet = read_wet(raw, by_name, problems)
     # Units before cells: an unknown unit stops the file before any row is judged.
     units = measured_units(by_name, source)
-    values, given, uncertainties, shared = _measured_values(raw, by_name, units, decimal_comma,
-                                                            profile, register, problems, notes, source)
+    values, given, uncertainties, shared = _measured_values(
+        raw, by_name, units, decimal_comma, profile, register, problems, notes, source, text["method"])
     check_ranges(values, units, by_name, text, problems)
     return RunTable(
         raw=raw, row_numbers=row_numbers, text=text, wet=wet, values=values,
@@ -369,11 +369,14 @@ def parse_runs(
     )
 
 
-def _measured_values(raw, by_name, units, decimal_comma, profile, register, problems, notes, source):
+def _measured_values(raw, by_name, units, decimal_comma, profile, register, problems, notes, source,
+                     method):
     """Read the measured columns and their uncertainties; fill volumes from a vessel register."""
     ids = vessel_rows(raw, by_name, register, source)
     values, blanks = read_measured(raw, by_name, units, decimal_comma, problems,
                                    None if ids is None else {"volume": pd.notna(ids)})
+    # before the defaults fill blanks in: a method's own inputs are never assumed
+    check_method_inputs(method, blanks, by_name, problems)
     stated = read_stated_uncertainties(raw, uncertainty_columns(by_name, units, source, notes),
                                        decimal_comma, problems)
     found = None if ids is None else look_up_vessels(ids, register, values, blanks, stated, by_name,

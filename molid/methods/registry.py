@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from molid.methods import air_tare_bulb, evacuated_bulb, syringe
+from molid.methods import air_tare_bulb, evacuated_bulb, syringe, vapour_flask
 from molid.methods.base import Method, missing_parts
 
 __all__ = [
@@ -35,7 +35,7 @@ def _register(*methods: Method) -> dict:
 
 
 #: Every method, by the name a run sheet gives it.
-METHODS = _register(evacuated_bulb.METHOD, air_tare_bulb.METHOD, syringe.METHOD)
+METHODS = _register(evacuated_bulb.METHOD, air_tare_bulb.METHOD, syringe.METHOD, vapour_flask.METHOD)
 
 #: Integer code of each method, used inside the vectorised model.
 METHOD_CODES = {name: code for code, name in enumerate(METHODS)}
