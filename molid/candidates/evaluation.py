@@ -37,6 +37,7 @@ __all__ = [
     "candidate_constants",
     "evaluate_candidates",
     "evaluate_in_blocks",
+    "residual_rows",
 ]
 
 #: A candidate whose vapour pressure is within this factor above the gas pressure
@@ -48,7 +49,8 @@ NEAR_SATURATION = 1.25
 _BLOCK_ROWS = 2048
 
 
-def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, pressure, library):
+def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, pressure, library,
+                        residual=None):
     r"""Each run's molar mass as implied by each candidate's real-gas behaviour.
 
     Parameters
@@ -64,14 +66,17 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         Partial pressure of the (dry) gas, shape (n,) [Pa].
     library : pandas.DataFrame
         Candidates (see :func:`molid.candidates.library.load_library`), c rows.
+    residual : dict, optional
+        Condensed-vapour runs (see :func:`molid.pipeline.identify.residual_vapour`).
 
     Returns
     -------
     dict of numpy.ndarray, each shape (n, c)
         ``Z``, ``measured`` [kg/mol], ``u_measured`` [kg/mol] (without the
-        candidate's own molar-mass uncertainty), ``u_model`` (the model term's
-        contribution, kg/mol), ``u_total``, ``z``, ``saturation_pressure`` [Pa],
-        ``condenses`` and ``near_saturation`` (bool).
+        candidate's own molar-mass uncertainty), ``u_model`` (the model terms'
+        contribution, kg/mol), ``u_extra`` (the run-to-run part that the
+        residual-vapour correction adds, kg/mol), ``u_total``, ``z``,
+        ``saturation_pressure`` [Pa], ``condenses`` and ``near_saturation`` (bool).
 
     Notes
     -----
@@ -109,13 +114,18 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         variance = _input_variance(sensitivities, uncertainties, M=M, T=T, p_over_RT=p_over_RT,
                                    Z=Z, dZ_dx=dZ_dx, B=B, slope=slope)
         u_model_square = _model_variance(M, x, dZ_dx * u_B * p_over_RT, constants)
-        u_measured_square = variance + u_model_square
+        correction, extra_square, model_square = _residual_vapour(
+            sensitivities, uncertainties, residual, constants, Z, p,
+            scale={"T": dZ_dx * slope * M * p_over_RT, "p": dZ_dx * B * M / (GAS_CONSTANT * T)})
+        measured, u_model_square = measured + correction, u_model_square + model_square
+        u_measured_square = variance + extra_square + u_model_square
         u_total = np.sqrt(u_measured_square + constants["u_molar_mass"] ** 2)
         z = (measured - constants["molar_mass"]) / u_total
         saturation, condenses, near = _condensation(T, p, constants)
     return {
         "Z": Z, "measured": measured, "u_measured": np.sqrt(u_measured_square),
-        "u_model": np.sqrt(u_model_square), "u_total": u_total, "z": z,
+        "u_model": np.sqrt(u_model_square), "u_extra": np.sqrt(extra_square), "u_total": u_total,
+        "z": z,
         "saturation_pressure": saturation, "condenses": condenses, "near_saturation": near,
     }
 
@@ -179,6 +189,81 @@ def _model_variance(M, x, u_Z_from_B, constants):
     """
     u_truncation = constants["truncation"] * x * x
     return (M * M) * (u_Z_from_B * u_Z_from_B + u_truncation * u_truncation)
+
+
+def _residual_vapour(sensitivities, uncertainties, residual, constants, Z, p, scale):
+    r"""Each candidate's residual-vapour correction for the runs that need it, with its variances.
+
+    Parameters
+    ----------
+    sensitivities, uncertainties : dict of numpy.ndarray
+        The ideal-gas model's sensitivity coefficients and the inputs' standard
+        uncertainties, shape (n,).
+    residual : dict or None
+        ``rows``, ``factor`` f [kg/(mol·Pa)], its ``sensitivities`` and the
+        ``room_temperature`` [K], shape (n,); None when no run needs it.
+    constants : dict
+        From :func:`candidate_constants`.
+    Z : numpy.ndarray
+        The candidates' compressibility factors, shape (n, c).
+    p : numpy.ndarray
+        The runs' gas pressure, shape (n, 1) [Pa].
+    scale : dict of numpy.ndarray
+        M·∂Z/∂T and M·∂Z/∂p per unit of T and p, shape (n, c).
+
+    Returns
+    -------
+    correction, extra_square, model_square : numpy.ndarray, shape (n, c)
+        Z·f·p_sat(T_room) [kg/mol], the variance it adds through the inputs (its own
+        sensitivities and their cross terms with M·Z), and the variance from the
+        vapour-pressure equation's uncertainty [kg²/mol²]; zero on other rows.
+
+    Notes
+    -----
+    .. math:: M_c = Z_c\,\bigl(M + f\,p_{sat,c}(T_{room})\bigr), \qquad
+              f = \frac{\rho_a V R T}{p^2 V_T}
+
+    Where a candidate's vapour pressure at room temperature reaches the
+    pressure, the cooled flask holds no air at all and p is used instead.
+    The sensitivity of the correction to input i is
+    :math:`e_i = Z\,(\partial f/\partial x_i)\,p_{sat}` (plus
+    :math:`Z f\,dp_{sat}/dT` for the room temperature); it adds
+    :math:`(2 s_i e_i + e_i^2)\,u_i^2` to the variance, s_i being the
+    sensitivity of M·Z. A candidate without critical data gets no correction.
+    """
+    shape = Z.shape
+    correction, extra, model = np.zeros(shape), np.zeros(shape), np.zeros(shape)
+    if residual is None or not np.any(residual["rows"]):
+        return correction, extra, model
+    index = np.flatnonzero(residual["rows"])
+    columns = np.flatnonzero(constants["has"])
+    room = np.asarray(residual["room_temperature"], dtype=float)[index][:, None]
+    relative = constants["relative_saturation"][columns]
+    saturation, u_relative = saturation_pressure(room, constants, columns, relative)
+    above, _ = saturation_pressure(room + 0.05, constants, columns, relative)
+    below, _ = saturation_pressure(room - 0.05, constants, columns, relative)
+    pressure = p[index]
+    held = np.minimum(saturation, pressure)
+    slope = np.where(saturation < pressure, (above - below) / 0.1, 0.0)
+    factor = residual["factor"][index][:, None]
+    Z_rows = Z[np.ix_(index, columns)]
+    part = Z_rows * factor * held
+    extra_rows = np.zeros_like(part)
+    for name, u in uncertainties.items():
+        derivative = residual["sensitivities"].get(name)
+        if derivative is None:
+            continue
+        e = Z_rows * derivative[index][:, None] * held
+        if name == "air_temperature":
+            e = e + Z_rows * factor * slope
+        s = Z_rows * sensitivities[name][index][:, None]
+        if name in ("temperature", "pressure"):
+            s = s + scale["T" if name == "temperature" else "p"][np.ix_(index, columns)]
+        extra_rows += (2.0 * s * e + e * e) * u[index][:, None] ** 2
+    correction[np.ix_(index, columns)] = part
+    extra[np.ix_(index, columns)] = np.maximum(extra_rows, 0.0)
+    model[np.ix_(index, columns)] = (part * np.where(saturation < pressure, u_relative, 0.0)) ** 2
+    return correction, extra, model
 
 
 def _condensation(T, p, constants):
@@ -267,7 +352,17 @@ def _saturation(T, p, constants):
     return saturation, u_relative
 
 
-def evaluate_in_blocks(molar_mass, sensitivities, uncertainties, temperature, pressure, library):
+def residual_rows(residual, part):
+    """Take the rows ``part`` (a slice or an index array) of a residual-vapour dict; None stays None."""
+    if residual is None:
+        return None
+    return {"rows": residual["rows"][part], "factor": residual["factor"][part],
+            "room_temperature": residual["room_temperature"][part],
+            "sensitivities": {name: item[part] for name, item in residual["sensitivities"].items()}}
+
+
+def evaluate_in_blocks(molar_mass, sensitivities, uncertainties, temperature, pressure, library,
+                       residual=None):
     """Run :func:`evaluate_candidates` on blocks of runs and join the results.
 
     Takes and returns the same as :func:`evaluate_candidates`; blocks of
@@ -277,14 +372,14 @@ def evaluate_in_blocks(molar_mass, sensitivities, uncertainties, temperature, pr
     n = len(molar_mass)
     if n <= _BLOCK_ROWS:
         return evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature,
-                                   pressure, library)
+                                   pressure, library, residual)
     out = None
     for start in range(0, n, _BLOCK_ROWS):
         part = slice(start, start + _BLOCK_ROWS)
         block = evaluate_candidates(
             molar_mass[part], {name: item[part] for name, item in sensitivities.items()},
             {name: item[part] for name, item in uncertainties.items()}, temperature[part],
-            pressure[part], library)
+            pressure[part], library, residual_rows(residual, part))
         if out is None:  # filled in place: no second copy of the (runs × candidates) arrays
             out = {key: np.empty((n,) + item.shape[1:], dtype=item.dtype)
                    for key, item in block.items()}

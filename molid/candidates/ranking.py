@@ -16,7 +16,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from molid.candidates.evaluation import evaluate_in_blocks
+from molid.candidates.evaluation import evaluate_in_blocks, residual_rows
 from molid.candidates.verdicts import SEPARATION_FACTOR, VERDICTS, rank_order, verdicts
 from molid.methods.inputs import INPUT_LABELS
 
@@ -236,8 +236,9 @@ def _evaluate_runs(result, index, library):
     uncertainties = {name: prop.uncertainties[name][index] for name in prop.uncertainties}
     temperature = result.table.values["temperature"][index]
     pressure = prop.extras["dry_pressure"][index]
+    residual = residual_rows(result.residual, index) if result.residual else None
     return evaluate_in_blocks(prop.value[index], sensitivities, uncertainties, temperature,
-                              pressure, library)
+                              pressure, library, residual)
 
 
 def _sample_groups(sample_ids, names):
@@ -281,7 +282,8 @@ def _combine_samples(result, index, runs, library, sample_ids, names):
     measured = mean(runs["measured"][in_sample])
     birge = result.samples["birge_ratio"].to_numpy(dtype=float)
     widen = np.where(result.samples["widened"].to_numpy(dtype=bool), birge, 1.0)
-    u_ind_run = Z * independent[:, None]
+    # the residual-vapour correction's input part is read afresh in each run
+    u_ind_run = np.sqrt((Z * independent[:, None]) ** 2 + runs["u_extra"][in_sample] ** 2)
     u_independent = np.sqrt(matrix @ ((weight[:, None] * u_ind_run) ** 2)) / total_weight[:, None]
     u_model = mean(runs["u_model"][in_sample])
     shared_total = np.zeros_like(measured)

@@ -18,7 +18,7 @@ from molid.io.reading import RunTable, read_runs
 from molid.methods.inputs import INPUT_LABELS, MEASURED_INPUTS
 from molid.methods.model import measurement_model
 from molid.methods.registry import METHODS, method_codes
-from molid.uncertainty.propagation import COVERAGE_FACTOR, budget_percent, propagate
+from molid.uncertainty.propagation import COVERAGE_FACTOR, budget_percent, complex_step_jacobian, propagate
 from molid.uncertainty.replicates import combine_replicates, shared_inputs
 
 __all__ = ["MOLAR_MASS_FLOOR", "MOLAR_MASS_CEILING", "Identification", "evaluate_runs", "identify"]
@@ -59,6 +59,10 @@ class Identification:
         Per input, each run's contribution common to all runs of its sample
         [kg/mol] (see :func:`shared_contributions`); empty when samples are not
         combined.
+    residual : dict
+        For methods with a residual-vapour correction (see
+        :func:`residual_vapour`): ``rows``, ``factor`` and its ``sensitivities``;
+        empty when no run needs it.
     ranking : object or None
         Per-candidate evaluation (see :mod:`molid.candidates.ranking`).
     notes : list of str
@@ -76,6 +80,7 @@ class Identification:
     sample_runs: dict
     sample_warnings: dict
     shared: dict = field(default_factory=dict)
+    residual: dict = field(default_factory=dict)
     ranking: object = None
     sample_ranking: object = None
     notes: list = field(default_factory=list)
@@ -173,6 +178,52 @@ def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
             f"{side}; check the mass and volume units and the method"
         ]
     return propagation, errors, warnings
+
+
+_NO_RESIDUAL_CORRECTION = (
+    "the ideal-gas value has no residual-vapour correction: each candidate's value includes its "
+    "own (the air its vapour kept out of the cooled flask)")
+
+
+def residual_vapour(table: RunTable, profile: InstrumentProfile) -> dict:
+    """Compute the residual-vapour factor of the runs whose method needs it, with its sensitivities.
+
+    A candidate's residual-vapour correction to the ideal-gas molar mass is this
+    factor, ρa·V·R·T/(p²·V_T) [kg/(mol·Pa)], times the candidate's vapour pressure
+    at room temperature (see :mod:`molid.methods.vapour_flask`); its sensitivities
+    to every input come by complex step from the same measurement model.
+
+    Parameters
+    ----------
+    table : RunTable
+        The validated runs.
+    profile : InstrumentProfile
+        As for :func:`evaluate_runs`.
+
+    Returns
+    -------
+    dict
+        ``rows`` (bool per run), ``factor`` [kg/(mol·Pa)], ``sensitivities`` (per
+        input, per run) and ``room_temperature`` [K]; empty when no run needs it.
+    """
+    codes = method_codes(table.text["method"].to_numpy(dtype=object))
+    needs = np.array([("residual-vapour" in method.candidate_corrections) for method in METHODS.values()])
+    rows = np.where(codes >= 0, needs[np.where(codes >= 0, codes, 0)], False) & table.ok
+    if not rows.any():
+        return {}
+    values, _, static = model_inputs(table, profile)
+    chosen = {name: item[rows] for name, item in values.items()}
+    flags = {name: np.asarray(item)[rows] for name, item in static.items()}
+    factor, slopes, _ = complex_step_jacobian(measurement_model, chosen, flags,
+                                              output="residual_vapour_factor")
+    count = len(table)
+    expanded = {name: np.zeros(count) for name in slopes}
+    for name, slope in slopes.items():
+        expanded[name][rows] = slope
+    full = np.zeros(count)
+    full[rows] = factor
+    return {"rows": rows, "factor": full, "sensitivities": expanded,
+            "room_temperature": table.values["air_temperature"]}
 
 
 def shared_contributions(table: RunTable, propagation, ok) -> dict:
@@ -316,6 +367,9 @@ def identify(
                                                                   vessels=vessels)
     propagation, errors, warnings = evaluate_runs(table, profile)
     ok = np.array([not row for row in errors], dtype=bool)
+    residual = residual_vapour(table, profile) if rank else {}
+    for index in np.flatnonzero(residual["rows"] & ok) if residual else ():
+        warnings[index] = warnings[index] + [_NO_RESIDUAL_CORRECTION]
     molar_mass = np.where(ok, propagation.value, np.nan)
     u = np.where(ok, propagation.standard_uncertainty, np.nan)
     budget = budget_percent(propagation.contributions)
@@ -339,6 +393,7 @@ def identify(
         sample_runs=sample_runs,
         sample_warnings=sample_warnings,
         shared=shared,
+        residual=residual,
         notes=list(table.notes),
     )
     if rank:
