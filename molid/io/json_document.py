@@ -13,6 +13,7 @@ import numpy as np
 
 from molid import __version__
 from molid.candidates.hazards import hazard_summary, pressure_unit_texts
+from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = ["molar_mass_block", "to_document", "to_json"]
@@ -102,8 +103,8 @@ def _run_entry(result, index, top, context) -> dict:
         "method": text["method"].iat[index],
         "error": error,
         "warnings": list(result.warnings[index]),
-        "molar_mass": None if error else molar_mass_block(result.molar_mass[index],
-                                                           result.u[index]),
+        "molar_mass": None if error else molar_mass_block(
+            result.molar_mass[index], result.u[index], headline_models([text["method"].iat[index]])[0]),
         "budget": [] if error else _budget_list(result, index),
         "candidates": [],
     }
@@ -132,7 +133,9 @@ def _sample_entries(result, top, context) -> list:
                  "warnings": list(result.sample_warnings.get(name, [])), "candidates": []}
         if frame is not None and name in frame.index:
             row = frame.loc[name]
-            entry["molar_mass"] = molar_mass_block(row["value"], row["u"])
+            models = set(headline_models(list(context["sample_methods"].get(name, {}))))
+            entry["molar_mass"] = molar_mass_block(row["value"], row["u"],
+                                                   models.pop() if len(models) == 1 else "ideal gas")
             entry["replicates"] = {
                 "n": int(row["n"]),
                 "chi_square": _float(row["chi_square"]),

@@ -11,6 +11,7 @@ import numpy as np
 import pandas as pd
 
 from molid.candidates.verdicts import VERDICTS, verdicts
+from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = ["to_csv", "CSV_TOP_CANDIDATES"]
@@ -91,7 +92,7 @@ def csv_frame(result) -> pd.DataFrame:
         "k": pd.Series(np.where(ok, int(COVERAGE_FACTOR), 0), dtype="Int64").where(ok, pd.NA),
         "low_g_mol": value - expanded,
         "high_g_mol": value + expanded,
-        "model": np.where(ok, "ideal gas", ""),
+        "model": np.where(ok, headline_models(result.table.text["method"]), ""),
         "main_contribution": main,
         "error": ["; ".join(row) for row in result.errors],
         "warnings": [" | ".join(row) for row in result.warnings],

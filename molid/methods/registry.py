@@ -21,6 +21,7 @@ __all__ = [
     "method_codes",
     "select_by_method",
     "mistake_applies",
+    "headline_models",
 ]
 
 
@@ -114,3 +115,23 @@ def mistake_applies(codes, method_code) -> np.ndarray:
     method_code = np.asarray(method_code)
     known = (method_code >= 0) & (method_code < len(METHODS))
     return np.where(known[None, :], table[:, np.where(known, method_code, 0)], False)
+
+
+def headline_models(methods) -> np.ndarray:
+    """Name what each run's own molar mass is, by its method ("ideal gas" where unknown).
+
+    Parameters
+    ----------
+    methods : array_like of str
+        Method names, one per run (or per sample).
+
+    Returns
+    -------
+    numpy.ndarray of str
+        Each method's ``headline_model``.
+    """
+    import pandas as pd
+
+    words = {name: method.headline_model for name, method in METHODS.items()}
+    mapped = pd.Series(np.asarray(methods, dtype=object), dtype=object).map(words)
+    return mapped.fillna("ideal gas").to_numpy(dtype=object)

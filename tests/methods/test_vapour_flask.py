@@ -133,3 +133,48 @@ def test_true_liquid_is_consistent():
     zs = np.abs([_true_entry(result, position, name)["z"] for position, name in enumerate(frame["expected"])])
     assert np.all(zs < 3.0), zs
     assert np.mean(zs <= 2.0) >= 0.8
+
+
+SHEET = (
+    "run,method,mass_tare [g],mass_filled [g],volume [mL],temperature [degC],"
+    "air_temperature [degC],pressure [kPa]\n"
+    """F1,vapour-flask,71.2345,71.4412,125.0,99.6,21.5,101.2
+F2,vapour-flask,71.2345,71.4412,125.0,20.0,21.6,101.2
+F3,vapour-flask,71.2345,71.4412,125.0,99.6,,101.2
+F4,vapour-flask,71.2345,71.0345,125.0,99.6,21.5,101.2
+F5,evacuated-bulb,150.0000,150.5870,500,21.0,,100.8
+"""
+)
+
+
+def test_vapour_flask_rows_that_cannot_be(tmp_path):
+    """Checks behaviour: bath not above room, no room temperature, a loss beyond the flask's air.
+
+    The flask's air weighs ρa·V ≈ 0.15 g at most (125 mL); a 0.2 g loss cannot be. The other
+    rows, including a bulb run without a room temperature, are still analysed.
+    """
+    path = tmp_path / "flasks.csv"
+    path.write_text(SHEET, encoding="utf-8")
+    result = identify(path)
+    errors = [" ".join(row) for row in result.errors]
+    assert errors[0] == ""
+    assert "must be hotter than the room" in errors[1]
+    assert "'air_temperature [degC]': the cell is empty; a vapour-flask run needs it" in errors[2]
+    assert "more than all the air in the flask" in errors[3]
+    assert errors[4] == ""
+
+
+def test_headline_model_says_there_is_no_residual_correction(tmp_path):
+    """Checks behaviour: JSON and CSV name the vapour flask's headline model; a bulb's stays 'ideal gas'."""
+    from molid.io.json_document import to_document
+    from molid.io.run_csv import csv_frame
+
+    path = tmp_path / "flasks.csv"
+    path.write_text(SHEET, encoding="utf-8")
+    result = identify(path)
+    document = to_document(result)
+    assert document["results"][0]["molar_mass"]["model"] == "ideal gas, no residual-vapour correction"
+    assert document["results"][4]["molar_mass"]["model"] == "ideal gas"
+    assert list(csv_frame(result)["model"].iloc[[0, 4]]) == ["ideal gas, no residual-vapour correction",
+                                                             "ideal gas"]
+    assert any("no residual-vapour correction" in text for text in result.warnings[0])
