@@ -76,7 +76,7 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         candidate's own molar-mass uncertainty), ``u_model`` (the model terms'
         contribution, kg/mol), ``u_extra`` (the run-to-run part that the
         residual-vapour correction adds, kg/mol), ``u_total``, ``z``,
-        ``saturation_pressure`` [Pa], ``condenses`` and ``near_saturation`` (bool).
+        ``saturation_pressure`` [Pa], ``condenses``, ``near_saturation``, ``not_liquid``.
 
     Notes
     -----
@@ -114,7 +114,7 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         variance = _input_variance(sensitivities, uncertainties, M=M, T=T, p_over_RT=p_over_RT,
                                    Z=Z, dZ_dx=dZ_dx, B=B, slope=slope)
         u_model_square = _model_variance(M, x, dZ_dx * u_B * p_over_RT, constants)
-        correction, extra_square, model_square = _residual_vapour(
+        correction, extra_square, model_square, not_liquid = _residual_vapour(
             sensitivities, uncertainties, residual, constants, Z, p,
             scale={"T": dZ_dx * slope * M * p_over_RT, "p": dZ_dx * B * M / (GAS_CONSTANT * T)})
         measured, u_model_square = measured + correction, u_model_square + model_square
@@ -127,6 +127,7 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         "u_model": np.sqrt(u_model_square), "u_extra": np.sqrt(extra_square), "u_total": u_total,
         "z": z,
         "saturation_pressure": saturation, "condenses": condenses, "near_saturation": near,
+        "not_liquid": not_liquid,
     }
 
 
@@ -217,6 +218,9 @@ def _residual_vapour(sensitivities, uncertainties, residual, constants, Z, p, sc
         Z·f·p_sat(T_room) [kg/mol], the variance it adds through the inputs (its own
         sensitivities and their cross terms with M·Z), and the variance from the
         vapour-pressure equation's uncertainty [kg²/mol²]; zero on other rows.
+    not_liquid : numpy.ndarray of bool, shape (n, c)
+        Candidates whose vapour pressure at room temperature reaches the pressure:
+        gases, which cannot be the liquid a flask was filled with.
 
     Notes
     -----
@@ -233,8 +237,9 @@ def _residual_vapour(sensitivities, uncertainties, residual, constants, Z, p, sc
     """
     shape = Z.shape
     correction, extra, model = np.zeros(shape), np.zeros(shape), np.zeros(shape)
+    not_liquid = np.zeros(shape, dtype=bool)
     if residual is None or not np.any(residual["rows"]):
-        return correction, extra, model
+        return correction, extra, model, not_liquid
     index = np.flatnonzero(residual["rows"])
     columns = np.flatnonzero(constants["has"])
     room = np.asarray(residual["room_temperature"], dtype=float)[index][:, None]
@@ -263,7 +268,9 @@ def _residual_vapour(sensitivities, uncertainties, residual, constants, Z, p, sc
     correction[np.ix_(index, columns)] = part
     extra[np.ix_(index, columns)] = np.maximum(extra_rows, 0.0)
     model[np.ix_(index, columns)] = (part * np.where(saturation < pressure, u_relative, 0.0)) ** 2
-    return correction, extra, model
+    # boiling at room temperature: it would have left the flask before the tare was taken
+    not_liquid[np.ix_(index, columns)] = saturation >= pressure
+    return correction, extra, model, not_liquid
 
 
 def _condensation(T, p, constants):

@@ -53,9 +53,9 @@ class Ranking:
     # -- candidate lists ---------------------------------------------------------------
     def _candidates(self, block, k, top):
         z = block["z"][k]
-        condenses = block["condenses"][k]
-        order = rank_order(z, condenses)
-        codes = verdicts(z, condenses)
+        condenses, not_liquid = block["condenses"][k], block["not_liquid"][k]
+        order = rank_order(z, condenses, not_liquid)
+        codes = verdicts(z, condenses, not_liquid)
         if top is not None:
             order = order[:top]
         items = []
@@ -102,9 +102,9 @@ class Ranking:
     # -- what the run can and cannot tell apart -----------------------------------------
     def _distinguish(self, block, k, budget):
         z = block["z"][k]
-        condenses = block["condenses"][k]
-        order = rank_order(z, condenses)
-        codes = verdicts(z, condenses)
+        condenses, not_liquid = block["condenses"][k], block["not_liquid"][k]
+        order = rank_order(z, condenses, not_liquid)
+        codes = verdicts(z, condenses, not_liquid)
         notes = []
         consistent = [j for j in order if codes[j] == 0]
         if not consistent:
@@ -188,9 +188,9 @@ class Ranking:
                     "note": "the label matches no library entry (or several isomers); add it "
                             "with --candidate FORMULA=NAME or --library"}
         z = block["z"][k]
-        condenses = block["condenses"][k]
-        order = list(rank_order(z, condenses))
-        verdict = VERDICTS[verdicts(z[j:j + 1], condenses[j:j + 1])[0]]
+        condenses, not_liquid = block["condenses"][k], block["not_liquid"][k]
+        order = list(rank_order(z, condenses, not_liquid))
+        verdict = VERDICTS[verdicts(z[j:j + 1], condenses[j:j + 1], not_liquid[j:j + 1])[0]]
         return {
             "expected": text,
             "name": self._names[j],
@@ -296,11 +296,13 @@ def _combine_samples(result, index, runs, library, sample_ids, names):
     z = (measured - library["molar_mass"].to_numpy(dtype=float)) / u_total
     # A sample condenses for a candidate if any of its runs does.
     condenses = (matrix @ runs["condenses"][in_sample].astype(float)) > 0
+    not_liquid = (matrix @ runs["not_liquid"][in_sample].astype(float)) > 0
     near = (matrix @ runs["near_saturation"][in_sample].astype(float)) > 0
     saturation = mean(runs["saturation_pressure"][in_sample])
     return {
         "Z": mean(Z), "measured": measured, "u_measured": u_measured, "u_model": u_model,
         "u_total": u_total, "z": z, "saturation_pressure": saturation, "condenses": condenses,
+        "not_liquid": not_liquid,
         "near_saturation": near,
     }
 

@@ -8,6 +8,8 @@ consistent |z| ≤ 2
 marginal   2 < |z| < 3
 excluded   |z| ≥ 3
 condenses  the pure substance would be liquid at the run's T and p
+not-a-liquid  (condensed-vapour flask) the substance is a gas at room temperature, so it
+           cannot be the liquid that was vaporised
 ========== =====================================================
 
 The bands are those of the z-score performance statistic in proficiency testing:
@@ -34,11 +36,23 @@ __all__ = [
     "CONSISTENT_LIMIT",
     "MARGINAL_LIMIT",
     "SEPARATION_FACTOR",
+    "LABEL_MEANINGS",
     "verdicts",
+    "rank_key",
     "rank_order",
 ]
 
-VERDICTS = ("consistent", "marginal", "excluded", "condenses")
+VERDICTS = ("consistent", "marginal", "excluded", "condenses", "not-a-liquid")
+
+#: What each verdict says of a label (the ``expected`` column) in plain words.
+LABEL_MEANINGS = {
+    "consistent": "the result agrees with the label",
+    "marginal": "the result is at the edge of agreeing with the label",
+    "excluded": "the result does NOT agree with the label",
+    "condenses": "the labelled substance would be liquid at these conditions",
+    "not-a-liquid": "the labelled substance is a gas at room temperature, not a liquid that "
+                    "a condensed-vapour flask can be filled with",
+}
 #: |z| at or below which a candidate is consistent: ISO 13528:2015, 9.4.1, "satisfactory" |z| ≤ 2.0.
 CONSISTENT_LIMIT = 2.0
 #: |z| at or above which a candidate is excluded: ISO 13528:2015, 9.4.1, "action signal" at |z| ≥ 3.0.
@@ -47,8 +61,8 @@ MARGINAL_LIMIT = 3.0
 SEPARATION_FACTOR = CONSISTENT_LIMIT + MARGINAL_LIMIT
 
 
-def verdicts(z, condenses) -> np.ndarray:
-    """Verdict codes (index into :data:`VERDICTS`) from z and the condensation flag.
+def verdicts(z, condenses, not_liquid=None) -> np.ndarray:
+    """Verdict codes (index into :data:`VERDICTS`) from z, the condensation and not-a-liquid flags.
 
     Examples
     --------
@@ -59,10 +73,30 @@ def verdicts(z, condenses) -> np.ndarray:
     size = np.abs(z)
     codes = np.where(size <= CONSISTENT_LIMIT, 0, np.where(size < MARGINAL_LIMIT, 1, 2))
     codes = np.where(np.isnan(size), 2, codes)
-    return np.where(condenses, 3, codes)
+    codes = np.where(condenses, 3, codes)
+    return codes if not_liquid is None else np.where(not_liquid & ~condenses, 4, codes)
 
 
-def rank_order(z, condenses) -> np.ndarray:
+def rank_key(z, condenses, not_liquid=None) -> np.ndarray:
+    """Sort key of each candidate: |z|, after every other if it cannot be the gas, NaN last.
+
+    Parameters
+    ----------
+    z : numpy.ndarray
+        Deviations.
+    condenses, not_liquid : numpy.ndarray of bool
+        The flags of :func:`verdicts` (``not_liquid`` may be None); same shape as ``z``.
+
+    Returns
+    -------
+    numpy.ndarray
+        Smaller ranks first.
+    """
+    cannot = condenses if not_liquid is None else (condenses | not_liquid)
+    return np.where(np.isnan(z), np.inf, np.abs(z)) + np.where(cannot, 1e300, 0.0)
+
+
+def rank_order(z, condenses, not_liquid=None) -> np.ndarray:
     """Candidate positions in ranked order: by |z|, condensing ones after the rest, no z last.
 
     Parameters
@@ -71,12 +105,12 @@ def rank_order(z, condenses) -> np.ndarray:
         Deviations, one per candidate along the last axis.
     condenses : numpy.ndarray of bool
         Whether each candidate would condense; same shape as ``z``.
+    not_liquid : numpy.ndarray of bool, optional
+        Whether each candidate is a gas at room temperature (condensed-vapour flask).
 
     Returns
     -------
     numpy.ndarray of int
         Indices that sort the last axis; ties keep library order.
     """
-    size = np.where(np.isnan(z), np.inf, np.abs(z))
-    key = size + np.where(condenses, 1e300, 0.0)
-    return np.argsort(key, axis=-1, kind="stable")
+    return np.argsort(rank_key(z, condenses, not_liquid), axis=-1, kind="stable")

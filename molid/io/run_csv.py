@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from molid.candidates.verdicts import VERDICTS, verdicts
+from molid.candidates.verdicts import VERDICTS, rank_key, verdicts
 from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -50,8 +50,8 @@ def _top_candidates(ranking, n_rows, places):
     if len(rows) == 0:
         return names, verdict, z_out
     z = ranking.runs["z"]
-    condenses = ranking.runs["condenses"]
-    key = np.where(np.isnan(z), np.inf, np.abs(z)) + np.where(condenses, 1e300, 0.0)
+    condenses, not_liquid = ranking.runs["condenses"], ranking.runs["not_liquid"]
+    key = rank_key(z, condenses, not_liquid)
     count = min(places, key.shape[1])
     best = np.argpartition(key, count - 1, axis=1)[:, :count] if key.shape[1] > count else \
         np.tile(np.arange(key.shape[1]), (len(rows), 1))
@@ -59,7 +59,8 @@ def _top_candidates(ranking, n_rows, places):
     # stable order among the chosen few, as the full ranking sorts them
     best = np.take_along_axis(best, np.lexsort((best, best_key), axis=1), axis=1)[:, :count]
     library_names = ranking.library["name"].to_numpy(dtype=object)
-    codes = verdicts(np.take_along_axis(z, best, axis=1), np.take_along_axis(condenses, best, axis=1))
+    codes = verdicts(np.take_along_axis(z, best, axis=1), np.take_along_axis(condenses, best, axis=1),
+                     np.take_along_axis(not_liquid, best, axis=1))
     names[rows, :count] = library_names[best]
     verdict[rows, :count] = np.asarray(VERDICTS, dtype=object)[codes]
     z_out[rows, :count] = np.round(np.take_along_axis(z, best, axis=1), 3)
@@ -135,7 +136,8 @@ def _label_verdicts(ranking, n_rows):
         rows = np.asarray(rows)
         k = np.asarray([position[i] for i in rows])
         columns = np.asarray(columns)
-        codes = verdicts(ranking.runs["z"][k, columns], ranking.runs["condenses"][k, columns])
+        codes = verdicts(ranking.runs["z"][k, columns], ranking.runs["condenses"][k, columns],
+                         ranking.runs["not_liquid"][k, columns])
         out[rows] = np.asarray(VERDICTS, dtype=object)[codes]
     return out
 

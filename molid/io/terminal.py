@@ -11,6 +11,7 @@ import math
 import numpy as np
 
 from molid.candidates.hazards import hazard_line
+from molid.candidates.verdicts import LABEL_MEANINGS
 from molid.io.json_document import to_document
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -45,12 +46,7 @@ def _label_text(label) -> str:
     if label["verdict"] == "not-in-library":
         return f"'{label['expected']}' is not in the candidate library, so it was not checked"
     z = f", z = {label['z']:+.2f}" if label.get("z") is not None else ""
-    meaning = {
-        "consistent": "the result agrees with the label",
-        "marginal": "the result is at the edge of agreeing with the label",
-        "excluded": "the result does NOT agree with the label",
-        "condenses": "the labelled substance would be liquid at these conditions",
-    }[label["verdict"]]
+    meaning = LABEL_MEANINGS[label["verdict"]]
     return f"'{label['expected']}' ({label['name']}): {label['verdict']} (rank {label['rank']}{z}): {meaning}"
 
 

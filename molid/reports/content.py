@@ -25,6 +25,7 @@ from molid.candidates.hazards import (
     pressure_unit_texts,
     unidentified_text,
 )
+from molid.candidates.verdicts import LABEL_MEANINGS
 from molid.methods.inputs import INPUT_LABELS
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -337,12 +338,7 @@ def label_sentence(label) -> str:
     if label["verdict"] == "not-in-library":
         return (f"Label '{label['expected']}': not in the candidate library, so it could not be "
                 "checked (add it with --candidate FORMULA=NAME).")
-    meaning = {
-        "consistent": "the measurement agrees with the label",
-        "marginal": "the measurement is at the edge of agreeing with the label",
-        "excluded": "the measurement does NOT agree with the label",
-        "condenses": "the labelled substance would be liquid at these conditions",
-    }[label["verdict"]]
+    meaning = LABEL_MEANINGS[label["verdict"]].replace("the result", "the measurement")
     z = f", z = {_signed(label['z'])}" if label.get("z") is not None else ""
     return (f"Label '{label['expected']}' ({label['name']}): {label['verdict'].upper()} "
             f"(rank {label['rank']}{z}): {meaning}.")

@@ -20,6 +20,7 @@ VERDICT_COLOURS = {
     "marginal": "#c46200",
     "excluded": "#b2182b",
     "condenses": "#6f6f6f",
+    "not-a-liquid": "#6f6f6f",
 }
 _BAND = "#d9d9d9"
 _MM = 1 / 25.4  # inch per millimetre

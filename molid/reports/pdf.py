@@ -31,6 +31,7 @@ _STYLE_COLOURS = {
     "marginal": (196, 98, 0),
     "excluded": (178, 24, 43),
     "condenses": (111, 111, 111),
+    "not-a-liquid": (111, 111, 111),
     "error": (178, 24, 43),
     "muted": (100, 100, 100),
 }

@@ -178,3 +178,18 @@ def test_headline_model_says_there_is_no_residual_correction(tmp_path):
     assert list(csv_frame(result)["model"].iloc[[0, 4]]) == ["ideal gas, no residual-vapour correction",
                                                              "ideal gas"]
     assert any("no residual-vapour correction" in text for text in result.warnings[0])
+
+
+def test_gases_at_room_temperature_are_not_the_liquid(tmp_path):
+    """Checks behaviour: propane and argon (gases at 21 °C, CoolProp) get 'not-a-liquid' and rank last."""
+    path = tmp_path / "flasks.csv"
+    path.write_text(SHEET, encoding="utf-8")
+    result = identify(path)
+    candidates = result.ranking.run_candidates(0, None)
+    verdict = {item["name"]: item["verdict"] for item in candidates}
+    assert verdict["propane"] == verdict["argon"] == "not-a-liquid"
+    assert CoolProp.PropsSI("P", "T", 294.65, "Q", 0, "Propane") > 101.2e3
+    order = [item["verdict"] for item in candidates]
+    last_possible = max(i for i, v in enumerate(order) if v in ("consistent", "marginal", "excluded"))
+    assert all(v in ("condenses", "not-a-liquid") for v in order[last_possible + 1:])
+    assert order.index("not-a-liquid") > last_possible
