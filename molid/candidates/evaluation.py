@@ -2,7 +2,9 @@
 
 For every candidate the run is re-evaluated under that candidate's own
 non-ideality: if the gas is candidate c, its molar mass is ``M·Z_c`` where M is
-the ideal-gas result and ``Z_c = 1 + B_c(T)·p/(R·T)``. The candidate's
+the ideal-gas result and Z_c solves the virial equation truncated after B_c(T)
+in its density form, ``Z = (1 + √(1 + 4x))/2`` with ``x = B_c·p/(R·T)``; a
+condensed-vapour flask adds each candidate's residual-vapour correction. The candidate's
 correlated second virial coefficient carries a model uncertainty that enters the
 budget, and the candidate's vapour pressure tells whether it would condense.
 The deviation ``z = (M·Z_c − M_c)/u`` then gives the verdict (see

@@ -212,6 +212,32 @@ def _pressure_hint(value_si: float, unit: ColumnUnit) -> str:
     return ""
 
 
+def check_wet(method: pd.Series, wet: np.ndarray, problems: RowProblems) -> np.ndarray:
+    """Error where a run says its gas is wet but its method cannot hold a wet gas; return the flags.
+
+    Parameters
+    ----------
+    method : pandas.Series
+        Each row's method name.
+    wet : numpy.ndarray of bool
+        The ``wet`` flags.
+    problems : RowProblems
+        Where the errors go.
+
+    Returns
+    -------
+    numpy.ndarray of bool
+        The flags, unchanged.
+    """
+    names = method.to_numpy(dtype=object)
+    for method_name, entry in REGISTERED_METHODS.items():
+        if not entry.accepts_wet:
+            problems.error((names == method_name) & wet, lambda i, method_name=method_name: (
+                f"column 'wet': a {method_name} run holds the substance's own vapour, not a gas "
+                "saturated with water; leave 'wet' empty or 'no'"))
+    return wet
+
+
 def check_method_inputs(method: pd.Series, blanks: dict, by_name: dict[str, Header],
                         problems: RowProblems) -> None:
     """Error where a run's method needs an input that its row leaves blank or the file lacks.

@@ -28,7 +28,7 @@ from molid.io.cells import (
     read_wet,
     text_columns,
 )
-from molid.io.checks import check_method_inputs, check_methods, check_ranges, check_run_ids
+from molid.io.checks import check_method_inputs, check_methods, check_ranges, check_run_ids, check_wet
 from molid.io.defaults import fill_defaults
 from molid.io.headers import measured_units, parse_header, resolve_headers, uncertainty_columns
 from molid.io.problems import InputError, RowProblems
@@ -356,7 +356,7 @@ def parse_runs(
         first_use = registry.check(text["run"].to_numpy(dtype=object), row_numbers)
     check_run_ids(text["run"], first_use, problems)
     check_methods(text["method"], column_text(raw, by_name["method"]), problems)
-    wet = read_wet(raw, by_name, problems)
+    wet = check_wet(text["method"], read_wet(raw, by_name, problems), problems)
     # Units before cells: an unknown unit stops the file before any row is judged.
     units = measured_units(by_name, source)
     values, given, uncertainties, shared = _measured_values(

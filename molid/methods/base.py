@@ -113,6 +113,8 @@ class Method:
     headline_model : str
         What the run's own molar mass (before any candidate's corrections) is,
         as printed beside it ("ideal gas").
+    accepts_wet : bool
+        Whether a run may say its gas is saturated with water vapour (``wet``).
     """
 
     name: str
@@ -129,6 +131,7 @@ class Method:
     cautions: tuple
     gas_volume: Callable = None
     headline_model: str = "ideal gas"
+    accepts_wet: bool = True
 
 
 def missing_parts(method: Method) -> list[str]:

@@ -242,4 +242,6 @@ METHOD = Method(
     ),
     gas_volume=flask_volume_at,
     headline_model="ideal gas, no residual-vapour correction",
+    # the flask holds the substance's own vapour, never a gas saturated with water
+    accepts_wet=False,
 )

@@ -162,7 +162,7 @@ def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
         f"({(table.values['pressure'][index] - extras['dry_pressure'][index]) / 1000:.3g} kPa) "
         "is not below the total pressure; a wet gas cannot be at these conditions"))
     add(ok & (extras["gas_mass"] <= 0), lambda index: (
-        f"row {rows[index]}: with the displaced air added back, the gas mass comes out "
+        f"row {rows[index]}: the gas mass comes out "
         f"{extras['gas_mass'][index] * 1e3:.4g} g, which cannot be; check the method "
         f"({', '.join(METHODS)}), the readings and the volume"))
     add(ok & ~(np.isfinite(molar_mass) & np.isfinite(u)), lambda index: (

@@ -193,3 +193,16 @@ def test_gases_at_room_temperature_are_not_the_liquid(tmp_path):
     last_possible = max(i for i, v in enumerate(order) if v in ("consistent", "marginal", "excluded"))
     assert all(v in ("condenses", "not-a-liquid") for v in order[last_possible + 1:])
     assert order.index("not-a-liquid") > last_possible
+
+
+def test_a_wet_flask_is_refused(tmp_path):
+    """Checks behaviour: 'wet' on a vapour-flask row is a row error; a wet bulb run is still read."""
+    path = tmp_path / "wet.csv"
+    path.write_text(
+        "run,method,mass_tare [g],mass_filled [g],volume [mL],temperature [degC],"
+        "air_temperature [degC],pressure [kPa],wet\n"
+        "F1,vapour-flask,71.2345,71.4412,125.0,99.6,21.5,101.2,yes\n"
+        "B1,air-tare-bulb,150.0000,150.2870,500,21.0,21.0,100.8,yes\n", encoding="utf-8")
+    result = identify(path)
+    assert "column 'wet': a vapour-flask run holds the substance's own vapour" in " ".join(result.errors[0])
+    assert result.errors[1] == []
