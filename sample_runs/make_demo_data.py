@@ -19,6 +19,8 @@ ROOT = Path(__file__).resolve().parent
 sys.path.insert(0, str(ROOT.parent / "tests"))
 import simulate  # noqa: E402
 
+from molid.methods.vapour_flask import flask_volume_at, simulate_readings  # noqa: E402
+
 R = 8.31446261815324
 
 
@@ -230,10 +232,122 @@ def teaching_section(rng):
           ["sample", "expected"])
 
 
+# Condensed-vapour flask section: vapour densities at the bath and vapour pressures at room
+# temperature from CoolProp, the readings from the method's own force-balance simulator.
+MMHG_IN_KPA = 0.133322387415   # 1 mmHg = 101.325/760 kPa (definition of the standard atmosphere)
+
+
+def flask_student_molar_mass(cells, route, mistake=None):
+    """Compute a student's textbook ideal-gas molar mass from the written flask readings, in g/mol.
+
+    M = m·R·T_bath/(p·V) with m the mass gained, without the residual-vapour correction.
+    ``route`` is the unit the student works in: "atm" (mmHg/760, R in L·atm/(mol·K)) or
+    "kPa" (mmHg × 0.1333, R in L·kPa/(mol·K)). ``mistake`` changes one step.
+    """
+    mass = float(cells["mass_filled [g]"]) - float(cells["mass_tare [g]"])
+    volume_ml = float(cells["volume [mL]"])
+    celsius = float(cells["temperature [degC]"])
+    mmhg = float(cells["pressure [mmHg]"])
+    volume, temperature = volume_ml / 1000.0, celsius + 273.15
+    pressure, constant = ((mmhg / ATM_IN_MMHG, R_LITRE_ATM) if route == "atm"
+                          else (mmhg * MMHG_IN_KPA, R))
+    if mistake == "celsius-as-kelvin":
+        temperature = celsius
+    elif mistake == "volume-unit":
+        volume = volume_ml
+    elif mistake == "pressure-unit":
+        pressure, constant = mmhg, R  # the mmHg reading used as if it were in kPa
+    return mass * constant * temperature / (pressure * volume)
+
+
+def flask_run(rng, fluid, nominal_ml):
+    """One student's flask readings as written: true state from CoolProp, teaching-lab noise added.
+
+    Balance with 1 mg readability (1 mg noise per reading, written to the mg), thermometer
+    0.3 K, barometer 0.1 kPa (written in mmHg, the lab's barometer scale).
+    """
+    volume_ml = round(nominal_ml * (1.06 + 0.06 * rng.random()), 1)  # to the brim, by water fill
+    # the instruments' readings span the stated ranges; the true state is a reading less its error
+    noise = rng.standard_normal(5)
+    bath_read, room_read = 98.5 + 1.3 * rng.random(), 19.5 + 3.5 * rng.random()
+    pressure_read = 99.0 + 3.5 * rng.random()  # kPa
+    bath, room = 273.15 + bath_read - 0.3 * noise[2], 273.15 + room_read - 0.3 * noise[3]
+    pressure = 1e3 * (pressure_read - 0.1 * noise[4])
+    rh = 35 + 25 * rng.random()
+    volume = volume_ml * 1e-6
+    vapour = PropsSI("D", "T", bath, "P", pressure, fluid) * flask_volume_at(volume, bath)
+    ratio = PropsSI("P", "T", room, "Q", 0, fluid) / pressure
+    glass = (1e-3 * (78.0 + 12.0 * rng.random()) if nominal_ml == 125
+             else 1e-3 * (88.0 + 14.0 * rng.random()))
+    tare, final = simulate_readings(vapour, simulate.air_density(room, pressure, rh / 100),
+                                    flask_volume_at(volume, room), glass_mass=glass,
+                                    saturation_ratio=ratio)
+    return {
+        "mass_tare [g]": f"{float(tare) * 1e3 + 1e-3 * noise[0]:.3f}",
+        "mass_filled [g]": f"{float(final) * 1e3 + 1e-3 * noise[1]:.3f}",
+        # the lab states its top-loading balance (1 mg), well above the default analytical one
+        "u_mass_tare [g]": "0.001", "u_mass_filled [g]": "0.001",
+        "volume [mL]": f"{volume_ml:.1f}",
+        "temperature [degC]": f"{bath_read:.1f}",
+        "air_temperature [degC]": f"{room_read:.1f}",
+        "pressure [mmHg]": f"{pressure_read / MMHG_IN_KPA:.1f}",
+        "humidity [%]": f"{rh:.0f}",
+    }
+
+
+def flask_section(rng):
+    """Write a condensed-vapour flask section and its answer key.
+
+    Section CHEM 1410-L3 of the (fictional) Alder Creek College general-chemistry lab,
+    instructor Dr. Priyanka Vosloo-Garand: each student vaporises one of four volatile
+    unknowns in a capped 125 mL or 150 mL borosilicate flask in a boiling-water bath, on one
+    of the section's lab days. Most report the textbook ideal-gas value; three slip a unit.
+    """
+    unknowns = {  # sample: (key entry, CoolProp fluid)
+        "V-1": ("acetone", "Acetone"), "V-2": ("ethanol", "Ethanol"),
+        "V-3": ("n-hexane", "n-Hexane"), "V-4": ("methanol", "Methanol"),
+    }
+    students = [
+        # name, sample, flask nominal mL, the unit the student works in, mistake, significant figures
+        ("Adaeze Morrow-Okafor", "V-1", 125, "atm", None, 4),
+        ("Bao Tran Whitcombe", "V-2", 150, "kPa", None, 3),
+        ("Cosima Ferreira-Lund", "V-3", 125, "atm", None, 4),
+        ("Dariusz Penhaligon", "V-4", 150, "atm", "celsius-as-kelvin", 3),
+        ("Elif Arslanoglu", "V-1", 150, "kPa", None, 4),
+        ("Femi Castellanos", "V-2", 125, "atm", None, 4),
+        ("Gwen Ashdown-Raines", "V-3", 150, "kPa", None, 3),
+        ("Hamid Rostami-Vale", "V-4", 125, "kPa", None, 4),
+        ("Isla MacCready", "V-1", 125, "atm", "volume-unit", 3),
+        ("Joaquin Berrocal", "V-2", 150, "atm", None, 3),
+        ("Keoni Makaiwi", "V-3", 125, "kPa", "pressure-unit", 4),
+        ("Ludmila Sorokina-Hart", "V-4", 150, "atm", None, 4),
+        ("Mateo Quisbert", "V-1", 150, "atm", None, 4),
+        ("Noor Al-Tamimi", "V-2", 125, "kPa", None, 4),
+        ("Oluwaseun Brightwater", "V-3", 150, "atm", None, 3),
+        ("Pilar Anzaldua-Reyes", "V-4", 125, "kPa", None, 4),
+    ]
+    rows = []
+    for number, (name, sample, nominal, route, mistake, digits) in enumerate(students, start=1):
+        run = flask_run(rng, unknowns[sample][1], nominal)
+        reported = flask_student_molar_mass(run, route, mistake)
+        rows.append({"run": f"F{number:02d}", "student": name, "section": "CHEM 1410-L3",
+                     "sample": sample, "method": "vapour-flask", **run,
+                     "reported_molar_mass [g/mol]": f"{reported:#.{digits}g}"})
+    columns = ["run", "student", "section", "sample", "method", "mass_tare [g]", "mass_filled [g]",
+               "u_mass_tare [g]", "u_mass_filled [g]", "volume [mL]", "temperature [degC]",
+               "air_temperature [degC]", "pressure [mmHg]", "humidity [%]",
+               "reported_molar_mass [g/mol]"]
+    write(ROOT / "flask_section.csv", rows, columns)
+    write(ROOT / "flask_key.csv",
+          [{"sample": sample, "expected": entry} for sample, (entry, _) in unknowns.items()],
+          ["sample", "expected"])
+
+
 def main():
     rng = np.random.default_rng(20261112)
     qa_cylinders(rng)
     teaching_section(np.random.default_rng(20261203))
+    flask_section(np.random.default_rng(20270118))
 
 
 if __name__ == "__main__":
