@@ -14,7 +14,7 @@ from dataclasses import dataclass
 from molid.io.columns import MEASURED_COLUMNS, REQUIRED_COLUMNS, UNCERTAIN_INPUTS, VESSEL_COLUMN
 from molid.io.problems import InputError
 from molid.io.units import ColumnUnit, UnitProblem, resolve_unit
-from molid.methods.inputs import COLUMN_KINDS
+from molid.methods.inputs import COLUMN_DEFAULT_UNITS, COLUMN_KINDS
 
 __all__ = [
     "HEADER_ALIASES",
@@ -170,7 +170,8 @@ def measured_units(by_name: dict[str, Header], source: str) -> dict[str, ColumnU
     for name in MEASURED_COLUMNS:
         header = by_name.get(name)
         try:
-            units[name] = resolve_unit(COLUMN_KINDS[name], header.unit if header else None)
+            written = header.unit if header else None
+            units[name] = resolve_unit(COLUMN_KINDS[name], written or COLUMN_DEFAULT_UNITS.get(name))
         except UnitProblem as problem:
             raise InputError(f"{source}: column '{header.original}': {problem}") from None
     return units

@@ -6,7 +6,7 @@ instrument profiles, the uncertainty budget and the reports agree on names.
 
 from __future__ import annotations
 
-__all__ = ["COLUMN_KINDS", "MEASURED_INPUTS", "MODEL_INPUTS", "INPUT_LABELS"]
+__all__ = ["COLUMN_DEFAULT_UNITS", "COLUMN_KINDS", "MEASURED_INPUTS", "MODEL_INPUTS", "INPUT_LABELS"]
 
 #: The measured inputs of a run, in budget order: each may have a u_<name> column.
 MEASURED_INPUTS = (
@@ -34,6 +34,10 @@ COLUMN_KINDS = {
     "co2": "fraction",
     "reported_molar_mass": "molar_mass",
 }
+
+#: Columns whose unit, when the header names none, is not their kind's default: CO2 is
+#: given as a plain mole fraction (0.0004), as the CIPM-2007 formula writes it.
+COLUMN_DEFAULT_UNITS = {"co2": "1"}
 
 #: The model's uncertain inputs, in budget order. The last two are relative
 #: corrections with value 0: the CIPM-2007 formula's own uncertainty and, for

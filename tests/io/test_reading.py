@@ -183,3 +183,13 @@ def test_humidity_uncertainty_above_100_percent_is_an_error():
     result, errors = _errors(f"{HEADER},humidity,u_humidity\n{GOOD},40,200\n"
                              "g2,evacuated-bulb,150.0000,150.5870,500,21.0,100.8,40,5\n")
     assert "row 2, column 'u_humidity'" in errors[0] and errors[1] == ""
+
+
+def test_co2_without_a_unit_is_a_mole_fraction(tmp_path):
+    """Checks behaviour: a bare `co2` header reads 0.0004 as a mole fraction, as the README's table says."""
+    path = tmp_path / "co2.csv"
+    path.write_text("run,method,mass_tare,mass_filled,volume,temperature,pressure,co2,humidity\n"
+                    "b1,evacuated-bulb,150.0000,150.5870,500,21.0,100.8,0.0004,40\n", encoding="utf-8")
+    table = read_runs(path)
+    assert table.values["co2"][0] == pytest.approx(0.0004)
+    assert table.values["humidity"][0] == pytest.approx(0.40)
