@@ -301,7 +301,7 @@ def _diagnose_reported(table: RunTable, profile, rubric: Rubric, usable) -> Diag
                     air_density_tolerance=rubric.air_density_tolerance, usable=usable)
 
 
-def _percent_errors(student, recomputed, true_mass, compressibility, has_truth, carried):
+def _percent_errors(student, recomputed, true_mass, correction, has_truth, carried):
     """Percent error of each student's result, and the error the rubric grades.
 
     Parameters
@@ -312,8 +312,10 @@ def _percent_errors(student, recomputed, true_mass, compressibility, has_truth, 
         molid's ideal-gas result from the same readings [kg/mol].
     true_mass : numpy.ndarray
         True molar mass [kg/mol].
-    compressibility : numpy.ndarray
-        Z of the true gas at each run's conditions.
+    correction : numpy.ndarray
+        The true gas's value over the ideal-gas value of each run: its Z at the
+        run's conditions, times (1 + the residual-vapour correction) for a
+        condensed-vapour flask.
     has_truth : numpy.ndarray of bool
         Runs with a true gas.
     carried : numpy.ndarray of bool
@@ -327,7 +329,8 @@ def _percent_errors(student, recomputed, true_mass, compressibility, has_truth, 
         The result that is graded [kg/mol].
     graded_error : numpy.ndarray
         Size of the graded error [%]: the smaller of the errors against the true
-        molar mass and against the ideal-gas value of the true gas.
+        molar mass and against the ideal-gas value the true gas gives in this run
+        (so a textbook calculation without Z or the residual-vapour correction is fair).
     """
     with np.errstate(invalid="ignore", divide="ignore"):
         percent_error = 100.0 * (student - true_mass) / true_mass
@@ -335,7 +338,7 @@ def _percent_errors(student, recomputed, true_mass, compressibility, has_truth, 
     with np.errstate(invalid="ignore", divide="ignore"):
         graded_error = np.fmin(
             np.abs(100.0 * (graded_value - true_mass) / true_mass),
-            np.abs(100.0 * (graded_value * compressibility - true_mass) / true_mass))
+            np.abs(100.0 * (graded_value * correction - true_mass) / true_mass))
     graded_error = np.where(np.isfinite(graded_value) & has_truth, graded_error, np.nan)
     return percent_error, graded_value, graded_error
 
@@ -393,8 +396,13 @@ def _score(result: Identification, position, reported, diagnosis: Diagnosis, rub
     """
     student = np.where(np.isfinite(reported), reported, result.molar_mass)
     known_mistake = np.array([bool(codes) and codes != [UNEXPLAINED] for codes in diagnosis.codes])
+    # the true gas's own correction of this run's ideal-gas value: Z, and in a condensed-vapour
+    # flask also the air its vapour kept out, which the textbook calculation leaves out
+    with np.errstate(invalid="ignore", divide="ignore"):
+        correction = np.where(np.isfinite(standing["molar_mass"]),
+                              standing["molar_mass"] / result.molar_mass, standing["compressibility"])
     percent_error, graded_value, graded_error = _percent_errors(
-        student, result.molar_mass, true_mass, standing["compressibility"], true_index >= 0,
+        student, result.molar_mass, true_mass, correction, true_index >= 0,
         rubric.carry_forward & known_mistake)
     candidates = _identification_candidates(rubric, len(library), true_index, also_index)
     identified, identified_as = _identifications(graded_value, candidates, true_index, library,

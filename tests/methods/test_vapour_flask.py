@@ -206,3 +206,29 @@ def test_a_wet_flask_is_refused(tmp_path):
     result = identify(path)
     assert "column 'wet': a vapour-flask run holds the substance's own vapour" in " ".join(result.errors[0])
     assert result.errors[1] == []
+
+
+def test_a_textbook_calculation_is_graded_fairly(tmp_path):
+    """A student's textbook value (no residual-vapour correction) is graded against what it should be.
+
+    Noise-free CoolProp runs; the student's value is computed here by hand, M = m·R·T/(p·V_T)
+    with m = ΔI·(1 − ρa/8000) (OIML D 28) and ρa from CoolProp's humid-air model: acetone's is
+    about 13 % below 58.08 g/mol, yet the graded error, against the true liquid's textbook value
+    in this run, is under 0.3 %.
+    """
+    from molid.teaching.grading import grade
+
+    frame = _simulated_runs(np.random.default_rng(1), repeats=1, noise=0.0)
+    R = 8.314462618  # J/(mol·K), SI 2019
+    reported = []
+    for _, row in frame.iterrows():
+        pressure = row["pressure [kPa]"] * 1e3
+        air = _air_density(row["air_temperature [K]"], pressure, HUMIDITY)
+        mass = (row["mass_filled [g]"] - row["mass_tare [g]"]) * 1e-3 * (1 - air / 8000)
+        bath = row["temperature [K]"]
+        reported.append(mass * R * bath / (pressure * flask_volume_at(FLASK, bath)) * 1e3)
+    frame["reported_molar_mass [g/mol]"] = reported
+    grading = grade(frame.astype({column: str for column in frame.columns}))
+    grades = grading.grades.set_index("run")
+    assert grades.loc["acetone-0", "percent_error"] == pytest.approx(-13.1, abs=0.3)
+    assert (grades["graded_percent_error"].abs() < 0.3).all(), grades["graded_percent_error"]
