@@ -18,6 +18,7 @@ MISTAKE_CODES = (
     "no-buoyancy",
     "masses-swapped",
     "gas-constant-units",
+    "room-temperature-for-vapour",
 )
 UNEXPLAINED = "unexplained"
 
@@ -30,6 +31,8 @@ DESCRIPTIONS = {
     "no-buoyancy": "the mass of the air the bulb or syringe displaces is left out",
     "masses-swapped": "the tare and filled readings are exchanged",
     "gas-constant-units": "R is taken in units that do not match the pressure and volume",
+    "room-temperature-for-vapour": "the room temperature is used for the vapour instead of the "
+                                   "bath temperature at which it filled the flask",
     UNEXPLAINED: "no single classic mistake explains the difference between your result and "
                  "your readings; check the arithmetic step by step",
 }

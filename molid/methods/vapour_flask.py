@@ -232,7 +232,7 @@ METHOD = Method(
     gas_mass_without_displaced_air=None,
     candidate_corrections=("compressibility", "residual-vapour"),
     mistakes=("celsius-as-kelvin", "volume-unit", "pressure-unit", "masses-swapped",
-              "gas-constant-units"),
+              "gas-constant-units", "room-temperature-for-vapour"),
     simulate_readings=simulate_readings,
     row_checks=row_checks,
     cautions=(

@@ -86,6 +86,8 @@ class Variant:
         Multiply V, p and R in the gas law.
     mass_mode : int
         0 mass as measured, 1 displaced air left out, 2 tare and filled exchanged.
+    room_temperature : bool
+        The room (balance) temperature is put into the gas law instead of the gas's.
     """
 
     code: str
@@ -95,6 +97,7 @@ class Variant:
     pressure_factor: float = 1.0
     gas_constant_factor: float = 1.0
     mass_mode: int = _MASS_AS_MEASURED
+    room_temperature: bool = False
 
 
 def _gas_constants() -> dict:
@@ -161,33 +164,17 @@ def mistake_variants() -> list[Variant]:
                             "change of the balance reading", mass_mode=_MASS_NO_BUOYANCY))
     variants.append(Variant("masses-swapped", "the tare and filled readings are exchanged",
                             mass_mode=_MASS_SWAPPED))
+    variants.append(Variant("room-temperature-for-vapour", "the room temperature is used for the "
+                            "vapour instead of the bath temperature", room_temperature=True))
     return variants
 
 
 def mistake_model(
-    mass_tare,
-    mass_filled,
-    volume,
-    temperature,
-    pressure,
-    humidity,
-    air_temperature,
-    air_pressure,
-    co2,
-    air_density_formula,
-    water_vapour,
-    student_air_density,
-    student_arithmetic,
-    *,
-    method_code,
-    wet,
-    air_temperature_given,
-    air_pressure_given,
-    temperature_offset,
-    volume_factor,
-    pressure_factor,
-    gas_constant_factor,
-    mass_mode,
+    mass_tare, mass_filled, volume, temperature, pressure, humidity, air_temperature, air_pressure,
+    co2, air_density_formula, water_vapour, student_air_density, student_arithmetic, *,
+    method_code, wet, air_temperature_given, air_pressure_given,
+    temperature_offset, volume_factor, pressure_factor, gas_constant_factor, mass_mode,
+    room_temperature,
 ):
     r"""Compute the molar mass a student gets from the readings with a given mistake [kg/mol].
 
@@ -209,6 +196,8 @@ def mistake_model(
         The variant's changes to T [K], V, p and R (see :class:`Variant`).
     mass_mode : array_like of int
         0 as measured, 1 displaced air left out, 2 tare and filled exchanged.
+    room_temperature : array_like of bool
+        The room temperature put into the gas law instead of the gas's.
 
     Returns
     -------
@@ -239,7 +228,8 @@ def mistake_model(
                      np.where(mass_mode == _MASS_NO_BUOYANCY, no_buoyancy, as_measured))
     mass = total - correct["water_mass"]
     molar_mass = ideal_gas_molar_mass(
-        mass, temperature - temperature_offset, correct["dry_pressure"] * pressure_factor,
+        mass, np.where(room_temperature, air_temperature, temperature - temperature_offset),
+        correct["dry_pressure"] * pressure_factor,
         volume * volume_factor,
     ) * gas_constant_factor * (1.0 + student_arithmetic)
     return {**correct, "molar_mass": molar_mass}
@@ -360,7 +350,7 @@ def _variant_values(values, uncertainties, static, variants, usable, arithmetic_
     tiled_u["student_arithmetic"] = np.full(runs * count, arithmetic_tolerance)
     tiled_static = {name: np.tile(np.asarray(item), count) for name, item in static.items()}
     for name in ("temperature_offset", "volume_factor", "pressure_factor", "gas_constant_factor",
-                 "mass_mode"):
+                 "mass_mode", "room_temperature"):
         tiled_static[name] = np.repeat(np.array([getattr(v, name) for v in variants]), runs)
     # rows that cannot be evaluated get harmless stand-ins, so the arrays stay finite
     safe = np.tile(usable, count)

@@ -280,10 +280,9 @@ def _true_gas_standing(block: dict, position, true_index, true_mass) -> dict:
 
 # -- the student's result ---------------------------------------------------------------
 
-_NOT_DIAGNOSED = (
-    "vapour-flask runs are graded on their percent error only: diagnosing their classic "
-    "mistakes (the residual-vapour correction left out, the room temperature used for the "
-    "vapour) is not available yet")
+_FLASK_DIAGNOSIS = (
+    "vapour-flask runs are checked against the textbook calculation, without the "
+    "residual-vapour correction; a result that includes that correction shows as unexplained")
 
 def _diagnose_reported(table: RunTable, profile, rubric: Rubric, usable) -> Diagnosis:
     """Diagnose each reported result against the mistakes a student makes with the same readings."""
@@ -350,11 +349,14 @@ def _identification_candidates(rubric: Rubric, library_size: int, true_index, al
     return np.array(sorted({*true_index[true_index >= 0].tolist(), *also_index}), dtype=int)
 
 
-def _identifications(graded_value, candidates, true_index, library: pd.DataFrame, block, position):
+def _identifications(graded_value, candidates, true_index, library: pd.DataFrame, block, position,
+                     ideal):
     """Name the candidate nearest each graded result, and tell whether it is the true gas.
 
     The comparison is at each run's conditions: a candidate's molar mass against
-    the graded result times that candidate's Z (1 for a run not evaluated).
+    the graded result times that candidate's correction of the run's ideal-gas
+    value ``ideal`` (its Z; in a condensed-vapour flask also its residual vapour;
+    1 for a run not evaluated).
 
     Returns
     -------
@@ -368,7 +370,9 @@ def _identifications(graded_value, candidates, true_index, library: pd.DataFrame
         return np.zeros(count, dtype=bool), np.full(count, None, dtype=object)
     evaluated = position >= 0
     compressibility = np.ones((count, len(candidates)))
-    compressibility[evaluated] = block["Z"][position[evaluated]][:, candidates]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        compressibility[evaluated] = (block["measured"][position[evaluated]][:, candidates]
+                                      / ideal[evaluated][:, None])
     library_mass = library["molar_mass"].to_numpy(dtype=float)
     with np.errstate(invalid="ignore"):
         distance = np.abs(graded_value[:, None] * compressibility - library_mass[candidates]
@@ -406,7 +410,7 @@ def _score(result: Identification, position, reported, diagnosis: Diagnosis, rub
         rubric.carry_forward & known_mistake)
     candidates = _identification_candidates(rubric, len(library), true_index, also_index)
     identified, identified_as = _identifications(graded_value, candidates, true_index, library,
-                                                  result.ranking.runs, position)
+                                                  result.ranking.runs, position, result.molar_mass)
     deduction = np.array([rubric.deduction(codes) for codes in diagnosis.codes])
     points = np.maximum(
         0.0, rubric.band_points(graded_error)
@@ -563,12 +567,9 @@ def grade(source, *, key=None, rubric=None, profile=None, library=None, vessels=
     result = identify(table, profile=profile, library=library)
     position = _ranking_positions(result.ranking, len(table))
     standing = _true_gas_standing(result.ranking.runs, position, true_index, true_mass)
-    # the residual-vapour mistakes of a condensed-vapour flask are not among the variants yet:
-    # such runs get no diagnosis rather than a misleading one
-    corrected = result.residual.get("rows", np.zeros(len(table), dtype=bool))
-    diagnosis = _diagnose_reported(table, profile, rubric, result.ok & ~corrected)
-    if corrected.any():
-        notes = list(notes) + [_NOT_DIAGNOSED]
+    diagnosis = _diagnose_reported(table, profile, rubric, result.ok)
+    if result.residual:
+        notes = list(notes) + [_FLASK_DIAGNOSIS]
     scores = _score(result, position, table.values["reported_molar_mass"], diagnosis, rubric,
                     library, true_index, also_index, true_mass, standing)
     errors = _row_errors(table, result, grade_errors)

@@ -232,3 +232,25 @@ def test_a_textbook_calculation_is_graded_fairly(tmp_path):
     grades = grading.grades.set_index("run")
     assert grades.loc["acetone-0", "percent_error"] == pytest.approx(-13.1, abs=0.3)
     assert (grades["graded_percent_error"].abs() < 0.3).all(), grades["graded_percent_error"]
+
+
+def test_room_temperature_for_the_vapour_is_diagnosed():
+    """A student who puts the room temperature into M = m·R·T/(p·V) gets that code, by hand.
+
+    Noise-free CoolProp runs; the mistaken value is computed here: the textbook calculation
+    with T = 21 °C instead of the bath's 99.5 °C, about 21 % low.
+    """
+    from molid.teaching.grading import grade
+
+    frame = _simulated_runs(np.random.default_rng(1), repeats=1, noise=0.0)
+    R = 8.314462618  # J/(mol·K), SI 2019
+    reported = []
+    for _, row in frame.iterrows():
+        pressure = row["pressure [kPa]"] * 1e3
+        air = _air_density(row["air_temperature [K]"], pressure, HUMIDITY)
+        mass = (row["mass_filled [g]"] - row["mass_tare [g]"]) * 1e-3 * (1 - air / 8000)
+        room = row["air_temperature [K]"]
+        reported.append(mass * R * room / (pressure * FLASK) * 1e3)
+    frame["reported_molar_mass [g/mol]"] = reported
+    grading = grade(frame.astype({column: str for column in frame.columns}))
+    assert all("room-temperature-for-vapour" in codes for codes in grading.grades["diagnosis"])

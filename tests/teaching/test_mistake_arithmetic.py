@@ -79,6 +79,8 @@ def hand_values(method):
         # nothing displaced is left out of an evacuated bulb: its value stays correct
         "no-buoyancy": [molar_mass(mass=(filled - tare) * factor)],
         "masses-swapped": [molar_mass(mass=(tare - filled) * factor + displaced)],
+        # no room temperature given: the balance room is taken at the gas's temperature
+        "room-temperature-for-vapour": [molar_mass(temperature=T)],
     }
     return correct, values
 
