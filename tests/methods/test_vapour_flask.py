@@ -208,6 +208,29 @@ def test_a_wet_flask_is_refused(tmp_path):
     assert result.errors[1] == []
 
 
+def _with_textbook_values(use_room_temperature):
+    """Noise-free runs with the student's textbook value worked by hand [g/mol].
+
+    M = m·R·T/(p·V) with m = ΔI·(1 − ρa/8000) (OIML D 28), ρa from CoolProp's humid-air model,
+    R = 8.314462618 J/(mol·K) (SI 2019), T the bath's (with V at the bath) or, as the mistake,
+    the room's (with the flask's nominal volume).
+    """
+    frame = _simulated_runs(np.random.default_rng(1), repeats=1, noise=0.0)
+    reported = []
+    for _, row in frame.iterrows():
+        pressure = row["pressure [kPa]"] * 1e3
+        air = _air_density(row["air_temperature [K]"], pressure, HUMIDITY)
+        mass = (row["mass_filled [g]"] - row["mass_tare [g]"]) * 1e-3 * (1 - air / 8000)
+        if use_room_temperature:
+            temperature, volume = row["air_temperature [K]"], FLASK
+        else:
+            temperature = row["temperature [K]"]
+            volume = flask_volume_at(FLASK, temperature)
+        reported.append(mass * 8.314462618 * temperature / (pressure * volume) * 1e3)
+    frame["reported_molar_mass [g/mol]"] = reported
+    return frame
+
+
 def test_a_textbook_calculation_is_graded_fairly(tmp_path):
     """A student's textbook value (no residual-vapour correction) is graded against what it should be.
 
@@ -218,16 +241,7 @@ def test_a_textbook_calculation_is_graded_fairly(tmp_path):
     """
     from molid.teaching.grading import grade
 
-    frame = _simulated_runs(np.random.default_rng(1), repeats=1, noise=0.0)
-    R = 8.314462618  # J/(mol·K), SI 2019
-    reported = []
-    for _, row in frame.iterrows():
-        pressure = row["pressure [kPa]"] * 1e3
-        air = _air_density(row["air_temperature [K]"], pressure, HUMIDITY)
-        mass = (row["mass_filled [g]"] - row["mass_tare [g]"]) * 1e-3 * (1 - air / 8000)
-        bath = row["temperature [K]"]
-        reported.append(mass * R * bath / (pressure * flask_volume_at(FLASK, bath)) * 1e3)
-    frame["reported_molar_mass [g/mol]"] = reported
+    frame = _with_textbook_values(use_room_temperature=False)
     grading = grade(frame.astype({column: str for column in frame.columns}))
     grades = grading.grades.set_index("run")
     assert grades.loc["acetone-0", "percent_error"] == pytest.approx(-13.1, abs=0.3)
@@ -242,15 +256,6 @@ def test_room_temperature_for_the_vapour_is_diagnosed():
     """
     from molid.teaching.grading import grade
 
-    frame = _simulated_runs(np.random.default_rng(1), repeats=1, noise=0.0)
-    R = 8.314462618  # J/(mol·K), SI 2019
-    reported = []
-    for _, row in frame.iterrows():
-        pressure = row["pressure [kPa]"] * 1e3
-        air = _air_density(row["air_temperature [K]"], pressure, HUMIDITY)
-        mass = (row["mass_filled [g]"] - row["mass_tare [g]"]) * 1e-3 * (1 - air / 8000)
-        room = row["air_temperature [K]"]
-        reported.append(mass * R * room / (pressure * FLASK) * 1e3)
-    frame["reported_molar_mass [g/mol]"] = reported
+    frame = _with_textbook_values(use_room_temperature=True)
     grading = grade(frame.astype({column: str for column in frame.columns}))
     assert all("room-temperature-for-vapour" in codes for codes in grading.grades["diagnosis"])
