@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from molid.candidates.evaluation import candidate_constants
 from molid.candidates.hazards import (
     LABEL_MARK,
     SAFETY_FOOTNOTE,
@@ -25,6 +26,7 @@ from molid.candidates.hazards import (
     pressure_unit_texts,
     unidentified_text,
 )
+from molid.candidates.vapour_pressures import saturation_pressure
 from molid.candidates.verdicts import LABEL_MEANINGS
 from molid.methods.inputs import INPUT_LABELS
 from molid.uncertainty.propagation import COVERAGE_FACTOR
@@ -44,7 +46,13 @@ __all__ = [
     "precautions_text",
     "format_number",
     "format_with_uncertainty",
+    "RESIDUAL_VAPOUR_SENTENCE",
 ]
+
+#: Said in the result box of a page with condensed-vapour-flask runs.
+RESIDUAL_VAPOUR_SENTENCE = (
+    "Vapour flask: this ideal-gas value has no residual-vapour correction; each candidate's "
+    "value includes its own.")
 
 _G = 1e3  # kg/mol → g/mol
 
@@ -513,24 +521,109 @@ def _budget_table(rows, runs_count) -> Table:
                  "the variance add to 100 %.", bars=4)
 
 
-def _candidate_table(candidates, top) -> Table:
+def _candidate_rows(items, residual_cells=None):
+    """Give the candidate table's rows and styles; two more cells per row on a vapour-flask page."""
     rows, styles = [], []
-    for item in candidates[:top]:
+    for position, item in enumerate(items):
         measured = item["measured"]
-        rows.append([
-            str(item["rank"]), item["name"], item["formula"] or "–", f"{item['molar_mass']:.3f}",
-            format_with_uncertainty(measured["value"], COVERAGE_FACTOR * measured["u"]),
-            f"{item['Z']:.4f}", _signed(item["z"]), item["verdict"],
-        ])
-        styles.append([None] * 7 + [item["verdict"]])
+        row = [str(item["rank"]), item["name"], item["formula"] or "–", f"{item['molar_mass']:.3f}",
+               format_with_uncertainty(measured["value"], COVERAGE_FACTOR * measured["u"]),
+               f"{item['Z']:.4f}", _signed(item["z"])]
+        rows.append(row + list(residual_cells[position] if residual_cells else ()) + [item["verdict"]])
+        styles.append([None] * (len(rows[-1]) - 1) + [item["verdict"]])
+    return rows, styles
+
+
+def _candidate_table(candidates, top, residual=None) -> Table:
+    """Tabulate the top candidates; ``residual`` (a vapour-flask page) adds p_sat and the correction.
+
+    ``residual`` is None, or ``(rows, extra, note)``: the candidate dicts to list (the top ones
+    and the label's substance), their (p_sat, correction) cells, and a sentence for the note.
+    """
+    if residual is None:
+        rows, styles = _candidate_rows(candidates[:top])
+        return Table(
+            f"Candidates, ranked (top {min(top, len(candidates))})",
+            ["#", "candidate", "formula", "M [g/mol]", "if it is this gas: M ± U", "Z", "z",
+             "verdict"],
+            rows, [7.0, 38.0, 20.0, 18.0, 36.0, 15.0, 14.0, 22.0], "RLLRRRRL", styles,
+            "Re-evaluated with each candidate's compressibility factor Z (virial, Tsonopoulos B); "
+            "z = (value − M)/u; |z| ≤ 2 consistent, ≤ 3 marginal, else excluded.",
+        )
+    items, extra, note = residual
+    rows, styles = _candidate_rows(items, extra)
     return Table(
         f"Candidates, ranked (top {min(top, len(candidates))})",
         ["#", "candidate", "formula", "M [g/mol]", "if it is this gas: M ± U", "Z", "z",
-         "verdict"],
-        rows, [7.0, 38.0, 20.0, 18.0, 36.0, 15.0, 14.0, 22.0], "RLLRRRRL", styles,
-        "Re-evaluated with each candidate's compressibility factor Z (virial, Tsonopoulos B); "
-        "z = (value − M)/u; |z| ≤ 2 consistent, ≤ 3 marginal, else excluded.",
+         "p_sat [kPa]", "corr. [%]", "verdict"],
+        rows, [6.0, 32.0, 17.0, 16.0, 33.0, 14.0, 13.0, 16.0, 14.0, 19.0], "RLLRRRRRRL", styles,
+        note + " z = (value − M)/u; |z| ≤ 2 consistent, ≤ 3 marginal, else excluded.",
     )
+
+
+def _residual_positions(result, positions) -> list:
+    """Pick the page's analysed runs whose method has a residual-vapour correction (vapour flask)."""
+    rows = result.residual.get("rows") if result.residual else None
+    if rows is None:
+        return []
+    return [p for p in positions if rows[p] and not result.errors[p]]
+
+
+def _residual_values(result, key, flask_positions, columns):
+    """Give per candidate: mean p_sat at the room temperature [Pa] and the correction [%].
+
+    The correction is not stored apart from Z, so it is taken back out of the candidate's
+    value M_c = Z_c·M·(1 + r_c): r_c = M_c/(Z_c·M) − 1, with M the ideal-gas value of the
+    sample (or of the run).
+    """
+    ranking = result.ranking
+    kind, ident = key
+    if kind == "sample" and ident in ranking.sample_names:
+        block, k = ranking.samples, ranking.sample_names.index(ident)
+        ideal = float(result.samples.set_index("sample").loc[ident, "value"])
+    else:
+        block = ranking.runs
+        k = int(np.flatnonzero(ranking.run_index == flask_positions[0])[0])
+        ideal = float(result.molar_mass[flask_positions[0]])
+    percent = (block["measured"][k, columns] / (block["Z"][k, columns] * ideal) - 1.0) * 100.0
+    constants = candidate_constants(ranking.library)
+    room = result.table.values["air_temperature"][flask_positions]
+    saturation, _ = saturation_pressure(room[:, None], constants, columns,
+                                        constants["relative_saturation"][columns])
+    saturation = np.where(constants["has"][columns], saturation.mean(axis=0), np.nan)
+    return saturation, percent
+
+
+def _residual_columns(result, key, flask_positions, candidates, label_name, top):
+    """Give the vapour-flask part of the candidate table: rows, (p_sat, correction) cells, note.
+
+    The rows are the top candidates and, when it is not among them, the label's substance;
+    the two cells are filled for the consistent and marginal ones and the label's substance.
+    """
+    items = list(candidates[:top])
+    items += [item for item in candidates[top:] if item["name"] == label_name]
+    shown = [item for item in items if item["verdict"] in ("consistent", "marginal")
+             or item["name"] == label_name]
+    index_of = {name: j for j, name in enumerate(result.ranking.library["name"])}
+    columns = np.array([index_of[item["name"]] for item in shown], dtype=int)
+    saturation, percent = (_residual_values(result, key, flask_positions, columns) if shown
+                           else ((), ()))
+    pressure = float(np.min(result.table.values["pressure"][flask_positions]))
+    cells = {}
+    for item, p_sat, share in zip(shown, saturation, percent, strict=True):
+        if np.isnan(p_sat):
+            vapour = "–"  # no critical data: the candidate gets no correction
+        elif p_sat >= pressure:  # the cooled flask holds no air; the model uses p (also above T_c)
+            vapour = "≥ p"
+        else:
+            vapour = f"{p_sat / 1e3:.3g}"
+        cells[item["name"]] = (vapour, _signed(share, 1))
+    extra = [cells.get(item["name"], ("", "")) for item in items]
+    runs = ", mean of the runs" if len(flask_positions) > 1 else ""
+    note = ("Value = Z·M·(1 + corr.), Z at the bath (virial, Tsonopoulos B); corr.: the air the "
+            f"candidate's vapour kept out of the cooled flask at p_sat, its vapour pressure at "
+            f"room temperature{runs}; blank when excluded, unless the label's.")
+    return items, extra, note
 
 
 def _nearby(candidates, value, expanded, label_name, limit=6):
@@ -662,15 +755,19 @@ def _findings(label, extras, candidates, top) -> list:
     return findings
 
 
-def _message_blocks(result, key, positions, run_labels, columns) -> list:
+def _message_blocks(result, key, positions, run_labels, columns, said_above=False) -> list:
     """Give the page's errors, warnings and the notes the file itself carries, as bullet lists."""
     kind, ident = key
     warnings = []
     if kind == "sample":
         warnings += [item[0].upper() + item[1:] for item in result.sample_warnings.get(ident, [])]
+    runs_of = {}  # a message several runs share is said once, naming them all
     for position in positions:
         for message in result.warnings[position]:
-            warnings.append(f"{run_labels[position]}: {message}")
+            if said_above and "no residual-vapour correction" in message:
+                continue  # the result box says it (RESIDUAL_VAPOUR_SENTENCE)
+            runs_of.setdefault(message, []).append(run_labels[position])
+    warnings += [f"{', '.join(runs)}: {message}" for message, runs in runs_of.items()]
     errors = [f"{run_labels[p]}: {message}" for p in positions for message in result.errors[p]]
     blocks = []
     if errors:
@@ -692,7 +789,11 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
     title = f"Sample {ident}" if kind == "sample" else f"Run {runs[0]}"
     blocks = [_page_fields(result.table, key, positions, runs, columns, methods)]
     value, u, origin, candidates, extras = _page_result(result, key, ok_positions)
-    blocks.append(Highlight(_result_lines(value, u, origin, candidates)))
+    flask_positions = _residual_positions(result, positions)
+    lines = _result_lines(value, u, origin, candidates)
+    if flask_positions and value is not None:
+        lines.append(RESIDUAL_VAPOUR_SENTENCE)
+    blocks.append(Highlight(lines))
     blocks.append(_inputs_table(result, positions, run_labels, result.notes))
 
     label = extras.get("label")
@@ -703,11 +804,15 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
                               _plot_block(value, COVERAGE_FACTOR * u, nearby,
                                           label["name"] if label else None)))
         if candidates:
-            blocks.append(_candidate_table(candidates, top))
+            residual = (_residual_columns(result, key, flask_positions, candidates,
+                                          label["name"] if label else None, top)
+                        if flask_positions else None)
+            blocks.append(_candidate_table(candidates, top, residual))
     findings = _findings(label, extras, candidates, top)
     if findings:
         blocks.append(Bullets("What the measurement can and cannot tell", findings, "note"))
-    blocks += _message_blocks(result, key, positions, run_labels, columns)
+    blocks += _message_blocks(result, key, positions, run_labels, columns,
+                              said_above=bool(flask_positions) and value is not None)
     summary = hazard_summary(candidates, library_hazards, label=label, methods=methods,
                              units=pressure_unit_texts(result.table.units),
                              analysed=value is not None)
