@@ -736,7 +736,7 @@ def _result_lines(value, u, origin, candidates) -> list:
         measured = best["measured"]
         lines.append(
             f"Best candidate: {best['name']} ({best['formula'] or '–'}), {best['verdict']}, "
-            f"z = {_signed(best['z'])}; if it is {best['name']}, the real-gas molar mass is "
+            f"z = {_signed(best['z'])}; if it is {best['name']}, its own corrections give "
             f"{format_with_uncertainty(measured['value'], COVERAGE_FACTOR * measured['u'])}"
             f" g/mol (M = {best['molar_mass']:.3f} g/mol)."
         )
