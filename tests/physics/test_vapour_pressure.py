@@ -3,7 +3,7 @@
 References: CoolProp 6.6+ reference equations of state (saturation pressures, via
 tests/coolprop_fluids.csv), and the chemicals package (its own implementations of the Wagner,
 DIPPR 101 and Antoine equations with its copies of the published coefficient tables), which
-checks the transcription of every coefficient set.
+checks that every coefficient set was copied correctly.
 """
 
 from importlib import resources
@@ -63,7 +63,7 @@ def test_every_row_names_its_source_and_range():
 
 @pytest.mark.parametrize("row", list(EQUATIONS.itertuples(index=False)), ids=lambda row: row.name)
 def test_equation_agrees_with_the_chemicals_package(row):
-    """Molid's equation with the transcribed coefficients equals the chemicals package's (1e-9)."""
+    """Molid's equation with the copied coefficients equals the chemicals package's (1e-9)."""
     low, high = row.minimum_temperature_K, row.maximum_temperature_K
     temperature = np.linspace(low, low + 0.9 * (high - low), 5)
     expected = np.array([chemicals_value(row, float(t)) for t in temperature])
