@@ -413,7 +413,7 @@ def _score(result: Identification, position, reported, diagnosis: Diagnosis, rub
                                                   result.ranking.runs, position, result.molar_mass)
     deduction = np.array([rubric.deduction(codes) for codes in diagnosis.codes])
     points = np.maximum(
-        0.0, rubric.band_points(graded_error)
+        0.0, rubric.band_points(graded_error, result.table.text["method"].to_numpy(dtype=object))
         + np.where(identified, rubric.identification_points, 0.0) - deduction)
     return {"percent_error": percent_error, "graded_percent_error": graded_error,
             "identified": identified, "identified_as": identified_as, "deduction": deduction,

@@ -20,6 +20,7 @@ import numpy as np
 
 from molid.io.problems import InputError
 from molid.methods.mistakes import MISTAKE_CODES, UNEXPLAINED
+from molid.methods.registry import METHODS as REGISTERED_METHODS
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -32,7 +33,7 @@ __all__ = ["DEFAULT_RUBRIC_PATH", "RubricError", "Rubric", "load_rubric"]
 DEFAULT_RUBRIC_PATH = Path(str(resources.files("molid") / "data" / "rubric.toml"))
 
 _SECTIONS = {
-    "percent_error": {"bands", "beyond"},
+    "percent_error": {"bands", "beyond", "method_scale"},
     "identification": {"points", "among", "also"},
     "deductions": set(MISTAKE_CODES) | {UNEXPLAINED},
     "diagnosis": {"carry_forward", "arithmetic_tolerance_percent", "air_density_tolerance"},
@@ -55,6 +56,9 @@ class Rubric:
         limits increasing.
     beyond : float
         Points for an error above the last band.
+    method_scale : dict
+        Method name -> factor that widens the band limits for that method's runs
+        (1 where not listed).
     identification_points : float
         Points for a correct identification.
     among : str
@@ -83,6 +87,7 @@ class Rubric:
     arithmetic_tolerance: float
     air_density_tolerance: float
     source: str = "default rubric"
+    method_scale: dict = field(default_factory=dict, hash=False)
 
     @property
     def max_points(self) -> float:
@@ -90,8 +95,11 @@ class Rubric:
         best = max([points for _, points in self.bands] + [self.beyond])
         return float(best + self.identification_points)
 
-    def band_points(self, percent_error) -> np.ndarray:
+    def band_points(self, percent_error, methods=None) -> np.ndarray:
         """Accuracy points for percent errors (sign ignored; NaN gives NaN).
+
+        With ``methods`` (one name per run), each run's error is measured against
+        band limits widened by its method's factor in ``method_scale``.
 
         Examples
         --------
@@ -100,6 +108,9 @@ class Rubric:
         [60.0, 60.0, 55.0, 30.0, 0.0]
         """
         size = np.abs(np.asarray(percent_error, dtype=float))
+        if methods is not None and self.method_scale:
+            scale = np.array([self.method_scale.get(name, 1.0) for name in methods], dtype=float)
+            size = size / scale
         limits = np.array([limit for limit, _ in self.bands], dtype=float)
         points = np.array([points for _, points in self.bands] + [self.beyond], dtype=float)
         # side="left": an error equal to a band's limit belongs to that band
@@ -118,7 +129,7 @@ class Rubric:
             "source": self.source,
             "percent_error": {"bands": [{"up_to": limit, "points": points}
                                         for limit, points in self.bands],
-                              "beyond": self.beyond},
+                              "beyond": self.beyond, "method_scale": dict(self.method_scale)},
             "identification": {"points": self.identification_points, "among": self.among,
                                "also": list(self.also)},
             "deductions": dict(self.deductions),
@@ -192,6 +203,22 @@ def _parse_bands(bands_value, problems: list) -> list:
     return bands
 
 
+def _parse_method_scale(value, problems: list) -> dict:
+    """Read ``percent_error.method_scale``: registered method name -> positive factor."""
+    if not isinstance(value, dict):
+        problems.append("rubric key 'percent_error.method_scale' must be a table of "
+                        "METHOD = FACTOR")
+        return {}
+    scale = {}
+    for name, factor in value.items():
+        if name not in REGISTERED_METHODS:
+            problems.append(f"rubric key 'percent_error.method_scale.{name}': not a method; "
+                            "methods: " + ", ".join(REGISTERED_METHODS))
+            continue
+        scale[name] = _number(factor, f"percent_error.method_scale.{name}", problems, minimum=1e-9)
+    return scale
+
+
 def _parse_identification(identification: dict, problems: list) -> tuple:
     """Read the identification section: points, the candidates chosen among, and extra ones."""
     points = _number(identification["points"], "identification.points", problems)
@@ -212,6 +239,7 @@ def _parse(data: dict, source: str) -> Rubric:
     merged = _merge_with_defaults(data, problems)
     bands = _parse_bands(merged["percent_error"]["bands"], problems)
     beyond = _number(merged["percent_error"]["beyond"], "percent_error.beyond", problems)
+    method_scale = _parse_method_scale(merged["percent_error"].get("method_scale", {}), problems)
     identification_points, among, also = _parse_identification(merged["identification"], problems)
     deductions = {code: _number(merged["deductions"][code], f"deductions.{code}", problems)
                   for code in (*MISTAKE_CODES, UNEXPLAINED)}
@@ -236,6 +264,7 @@ def _parse(data: dict, source: str) -> Rubric:
         arithmetic_tolerance=tolerance / 100.0,
         air_density_tolerance=air,
         source=source,
+        method_scale=method_scale,
     )
 
 
