@@ -629,8 +629,17 @@ def _residual_columns(result, key, flask_positions, candidates, label_name, top)
 def _nearby(candidates, value, expanded, label_name, limit=6):
     """Pick the candidates for the molar-mass axis: the closest, the best and the label."""
     window = max(8.0 * expanded, 0.015 * value)
-    close = sorted((item for item in candidates if abs(item["molar_mass"] - value) <= window),
-                   key=lambda item: abs(item["molar_mass"] - value))[:limit]
+
+    def distance(item):
+        # near the result, or near what the result means if it is this candidate (a vapour
+        # flask's per-candidate correction moves that far from the ideal-gas value)
+        measured = item.get("measured")
+        own = measured.get("value") if isinstance(measured, dict) else None
+        own = value if own is None else own
+        return min(abs(item["molar_mass"] - value), abs(item["molar_mass"] - own))
+
+    possible = [item for item in candidates if item["verdict"] != "not-a-liquid"]
+    close = sorted((item for item in possible if distance(item) <= window), key=distance)[:limit]
     chosen = {item["name"]: item for item in close}
     for item in candidates[:1] + [c for c in candidates if c["name"] == label_name]:
         chosen.setdefault(item["name"], item)
