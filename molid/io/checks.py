@@ -101,7 +101,7 @@ def check_ranges(values: dict, units: dict[str, ColumnUnit], by_name: dict[str, 
         lambda i: f"volume {_as_written(volume[i], units['volume']):g} {units['volume'].text} is "
         "unusual for a bulb or syringe; check the volume unit",
     )
-    _check_mass_difference(values, units, text, problems)
+    _check_method_rows(values, units, text, problems)
 
 
 def _check_temperature(name: str, absolute: np.ndarray, unit: ColumnUnit, header: Header,
@@ -165,7 +165,7 @@ def _check_fractions(values: dict, by_name: dict[str, Header], problems: RowProb
         )
 
 
-def _check_mass_difference(values: dict, units: dict[str, ColumnUnit], text: pd.DataFrame,
+def _check_method_rows(values: dict, units: dict[str, ColumnUnit], text: pd.DataFrame,
                            problems: RowProblems) -> None:
     """Errors where a row's readings are impossible for its method (each method's own checks)."""
     method = text["method"].to_numpy(dtype=object)

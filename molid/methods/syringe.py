@@ -102,8 +102,8 @@ METHOD = Method(
               "gas-constant-units"),
     simulate_readings=simulate_readings,
     row_checks=no_row_checks,
-    # common practice: a regulator can blow the plunger out of a glass syringe
     gas_volume=same_volume,
+    # common practice: a regulator can blow the plunger out of a glass syringe
     cautions=("never fill a glass syringe straight from a cylinder regulator: use a low-pressure "
               "stage (bag, balloon or bubbler), or the plunger can be blown out",),
 )
