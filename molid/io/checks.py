@@ -166,7 +166,7 @@ def _check_fractions(values: dict, by_name: dict[str, Header], problems: RowProb
 
 
 def _check_method_rows(values: dict, units: dict[str, ColumnUnit], text: pd.DataFrame,
-                           problems: RowProblems) -> None:
+                       problems: RowProblems) -> None:
     """Errors where a row's readings are impossible for its method (each method's own checks)."""
     method = text["method"].to_numpy(dtype=object)
 
