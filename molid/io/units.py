@@ -1,7 +1,7 @@
 """Units of the input columns: parsing a header's unit with pint and converting to SI.
 
 Each measured column has a physical kind (mass, volume, temperature, pressure,
-fraction) and a default unit used when the header names none. Conversion to SI
+fraction, length) and a default unit used when the header names none. Conversion to SI
 happens once, here, at the edge of the library; everything downstream works in
 kg, m³, K, Pa and plain fractions.
 
@@ -35,6 +35,7 @@ DEFAULT_UNITS = {
     "pressure": "kPa",
     "fraction": "percent",
     "molar_mass": "g/mol",
+    "length": "mm",
 }
 
 #: The SI unit each kind is converted to.
@@ -45,6 +46,7 @@ SI_UNITS = {
     "pressure": "Pa",
     "fraction": "dimensionless",
     "molar_mass": "kg/mol",
+    "length": "m",
 }
 
 #: Examples of accepted units, quoted in error messages.
@@ -55,6 +57,7 @@ ACCEPTED_UNITS = {
     "pressure": "kPa, Pa, hPa, mbar, bar, atm, mmHg, torr, inHg, psi",
     "fraction": "% (percent) or 1 (a plain fraction)",
     "molar_mass": "g/mol, kg/mol",
+    "length": "mm, cm, m, in",
 }
 
 _DIMENSIONS = {
@@ -64,6 +67,7 @@ _DIMENSIONS = {
     "pressure": "[mass] / [length] / [time] ** 2",
     "fraction": "",
     "molar_mass": "[mass] / [substance]",
+    "length": "[length]",
 }
 
 
