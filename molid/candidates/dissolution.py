@@ -6,7 +6,10 @@ compilation of Sander 2015). The file is read once and cached; candidates are
 matched by their library name, case-insensitively. A candidate without a row
 gets NaN, never a guess.
 
-Nothing here is wired into a measurement method yet.
+The over-water method (:mod:`molid.methods.over_water`) uses it per candidate
+(see :mod:`molid.candidates.evaluation`): a note of how much of the gas an equal
+volume of water could take up, and the ``dissolves`` verdict for gases marked
+not collectable.
 """
 
 import csv
@@ -22,6 +25,7 @@ __all__ = [
     "HENRY_PATH",
     "HENRY_REFERENCE_TEMPERATURE",
     "dissolution_bias",
+    "dissolved_fraction",
     "henry_constants",
     "henry_solubility",
     "load_henry_table",
@@ -211,9 +215,32 @@ def dissolution_bias(temperature, partial_pressure, gas_volume, water_volume, na
     [0.45, 0.0156]
     """
     henry_298, temperature_dependence = henry_constants(names)
-    T = np.asarray(temperature)[:, np.newaxis]
-    p = np.asarray(partial_pressure)[:, np.newaxis]
+    return dissolved_fraction(np.asarray(temperature)[:, np.newaxis],
+                              np.asarray(partial_pressure)[:, np.newaxis],
+                              np.asarray(gas_volume)[:, np.newaxis],
+                              np.asarray(water_volume)[:, np.newaxis], henry_298, temperature_dependence)
+
+
+def dissolved_fraction(temperature, partial_pressure, gas_volume, water_volume, henry_298,
+                       temperature_dependence):
+    """Return the fraction of a gas in the water at equilibrium, from its Henry's-law constants.
+
+    Parameters
+    ----------
+    temperature, partial_pressure, gas_volume, water_volume : array_like
+        As for :func:`dissolution_bias` [K, Pa, m³, m³], broadcast against the constants.
+    henry_298, temperature_dependence : array_like
+        As returned by :func:`henry_constants` [mol/(m³·Pa)], [K].
+
+    Returns
+    -------
+    numpy.ndarray
+        x = H R T V_w / (V_g + H R T V_w) [1] (see :func:`dissolution_bias` for the
+        derivation and the source).
+    """
+    T = temperature
+    p = partial_pressure
     henry = henry_solubility(T, henry_298, temperature_dependence)
-    dissolved = henry * p * np.asarray(water_volume)[:, np.newaxis]
-    gaseous = p * np.asarray(gas_volume)[:, np.newaxis] / (GAS_CONSTANT * T)
+    dissolved = henry * p * water_volume
+    gaseous = p * gas_volume / (GAS_CONSTANT * T)
     return dissolved / (gaseous + dissolved)

@@ -12,7 +12,10 @@ The deviation ``z = (M·Z_c − M_c)/u`` then gives the verdict (see
 
 References
 ----------
-JCGM 100:2008 (GUM), 5.1.2, for the propagation; C. Tsonopoulos, AIChE J. 20
+JCGM 100:2008 (GUM), 5.1.2, for the propagation; J. M. Prausnitz, R. N.
+Lichtenthaler, E. Gomes de Azevedo, *Molecular Thermodynamics of Fluid-Phase
+Equilibria*, 3rd ed., Prentice Hall (1999), ch. 5, for the virial equation's
+density form; C. Tsonopoulos, AIChE J. 20
 (1974) 263, for B(T); the substance's own vapour-pressure equation
 (:mod:`molid.candidates.vapour_pressures`), or D. Ambrose and J. Walton, Pure Appl.
 Chem. 61 (1989) 1395, for the vapour pressure that decides ``condenses``.
@@ -22,6 +25,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from molid.candidates.dissolution import dissolved_fraction, henry_constants, not_collectable
 from molid.candidates.model_terms import (
     vapour_pressure_relative_uncertainty,
     virial_relative_uncertainty,
@@ -29,6 +33,7 @@ from molid.candidates.model_terms import (
     virial_uncertainty,
 )
 from molid.candidates.vapour_pressures import equation_table, saturation_pressure
+from molid.candidates.verdicts import DISSOLVES, NOT_A_LIQUID
 from molid.physics.constants import GAS_CONSTANT
 from molid.physics.vapour_pressure import vapour_pressure_ambrose_walton
 from molid.physics.virial import second_virial
@@ -40,6 +45,7 @@ __all__ = [
     "evaluate_candidates",
     "evaluate_in_blocks",
     "residual_rows",
+    "solubility_rows",
 ]
 
 #: A candidate whose vapour pressure is within this factor above the gas pressure
@@ -52,7 +58,7 @@ _BLOCK_ROWS = 2048
 
 
 def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, pressure, library,
-                        residual=None):
+                        residual=None, solubility=None):
     r"""Each run's molar mass as implied by each candidate's real-gas behaviour.
 
     Parameters
@@ -70,6 +76,8 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         Candidates (see :func:`molid.candidates.library.load_library`), c rows.
     residual : dict, optional
         Condensed-vapour runs (see :func:`molid.pipeline.identify.residual_vapour`).
+    solubility : dict, optional
+        Runs collected over water: ``rows`` (bool, shape (n,)) and ``gas_volume`` [m³].
 
     Returns
     -------
@@ -78,7 +86,11 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         candidate's own molar-mass uncertainty), ``u_model`` (the model terms'
         contribution, kg/mol), ``u_extra`` (the run-to-run part that the
         residual-vapour correction adds, kg/mol), ``u_total``, ``z``,
-        ``saturation_pressure`` [Pa], ``condenses``, ``near_saturation``, ``not_liquid``.
+        ``saturation_pressure`` [Pa], ``condenses``, ``near_saturation``,
+        ``unfit`` (int8: the method's own verdict code, ``not-a-liquid`` or
+        ``dissolves``, 0 where none) and ``dissolved`` (float32: over water, the
+        fraction of the gas an equal volume of water would take up at
+        equilibrium; NaN elsewhere or without a Henry's-law constant).
 
     Notes
     -----
@@ -88,18 +100,11 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
     .. math:: Z = \tfrac{1}{2}\left(1 + \sqrt{1 + 4x}\right), \qquad x = \frac{Bp}{RT},
 
     which leaves a smaller truncation error than the pressure form
-    :math:`Z = 1 + x` (Prausnitz et al. 1999, ch. 5). The sensitivities of
-    :math:`MZ` are :math:`Z\,\partial M/\partial x_i` for every input, plus
-    :math:`M\,\partial Z/\partial T` for temperature and
-    :math:`M\,\partial Z/\partial p` for pressure; the model term combines
-    u(B) from the correlation with the truncation term of
+    :math:`Z = 1 + x` (Prausnitz et al. 1999, ch. 5; see the module's references).
+    The sensitivities of :math:`MZ` are :math:`Z\,\partial M/\partial x_i` for
+    every input, plus :math:`M\,\partial Z/\partial T` and :math:`M\,\partial Z/\partial p`;
+    the model term combines u(B) from the correlation with the truncation term of
     :func:`molid.candidates.model_terms.virial_truncation_uncertainty`.
-
-    References
-    ----------
-    J. M. Prausnitz, R. N. Lichtenthaler, E. Gomes de Azevedo, *Molecular
-    Thermodynamics of Fluid-Phase Equilibria*, 3rd ed., Prentice Hall (1999), ch. 5.
-    JCGM 100:2008 (GUM), 5.1.2.
     """
     constants = candidate_constants(library)
     T = np.asarray(temperature, dtype=float)[:, None]
@@ -124,13 +129,33 @@ def evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature, p
         u_total = np.sqrt(u_measured_square + constants["u_molar_mass"] ** 2)
         z = (measured - constants["molar_mass"]) / u_total
         saturation, condenses, near = _condensation(T, p, constants)
+        dissolved, unfit = _solubility(solubility, constants, T, p, not_liquid)
     return {
         "Z": Z, "measured": measured, "u_measured": np.sqrt(u_measured_square),
         "u_model": np.sqrt(u_model_square), "u_extra": np.sqrt(extra_square), "u_total": u_total,
         "z": z,
         "saturation_pressure": saturation, "condenses": condenses, "near_saturation": near,
-        "not_liquid": not_liquid,
+        "unfit": unfit, "dissolved": dissolved,
     }
+
+
+def _solubility(solubility, constants, T, p, not_liquid):
+    """Dissolved fraction (float32, NaN off rows) of runs over water, and the method verdicts (int8).
+
+    The stated contact is an equal volume of water at equilibrium with the gas
+    (see :func:`molid.candidates.dissolution.dissolution_bias`): an order of
+    magnitude for the note, not a correction, since the contact is not recorded.
+    """
+    dissolved = np.full(not_liquid.shape, np.nan, dtype=np.float32)
+    unfit = np.where(not_liquid, np.int8(NOT_A_LIQUID), np.int8(0))
+    if solubility is None or not np.any(solubility["rows"]):
+        return dissolved, unfit
+    rows = np.flatnonzero(solubility["rows"])
+    volume = np.asarray(solubility["gas_volume"], dtype=float)[rows][:, None]
+    dissolved[rows] = dissolved_fraction(T[rows], p[rows], volume, volume, constants["henry_298"],
+                                         constants["henry_slope"])
+    unfit[rows] = np.where(constants["not_collectable"], np.int8(DISSOLVES), unfit[rows])
+    return dissolved, unfit
 
 
 def _virial_per_run(T, constants):
@@ -322,6 +347,9 @@ def candidate_constants(library) -> dict:
         "vapour_equations": equation_table(library["name"].to_numpy(dtype=object),
                                            library["cas"].to_numpy(dtype=object)),
     }
+    names = library["name"].to_numpy(dtype=object)
+    constants["henry_298"], constants["henry_slope"] = henry_constants(names)
+    constants["not_collectable"] = not_collectable(names)
     _CONSTANTS_CACHE.clear()
     _CONSTANTS_CACHE[key] = (library, constants)
     return constants
@@ -370,8 +398,15 @@ def residual_rows(residual, part):
             "sensitivities": {name: item[part] for name, item in residual["sensitivities"].items()}}
 
 
+def solubility_rows(solubility, part):
+    """Take the rows ``part`` of a solubility dict; None stays None."""
+    if solubility is None:
+        return None
+    return {"rows": solubility["rows"][part], "gas_volume": solubility["gas_volume"][part]}
+
+
 def evaluate_in_blocks(molar_mass, sensitivities, uncertainties, temperature, pressure, library,
-                       residual=None):
+                       residual=None, solubility=None):
     """Run :func:`evaluate_candidates` on blocks of runs and join the results.
 
     Takes and returns the same as :func:`evaluate_candidates`; blocks of
@@ -381,14 +416,14 @@ def evaluate_in_blocks(molar_mass, sensitivities, uncertainties, temperature, pr
     n = len(molar_mass)
     if n <= _BLOCK_ROWS:
         return evaluate_candidates(molar_mass, sensitivities, uncertainties, temperature,
-                                   pressure, library, residual)
+                                   pressure, library, residual, solubility)
     out = None
     for start in range(0, n, _BLOCK_ROWS):
         part = slice(start, start + _BLOCK_ROWS)
         block = evaluate_candidates(
             molar_mass[part], {name: item[part] for name, item in sensitivities.items()},
             {name: item[part] for name, item in uncertainties.items()}, temperature[part],
-            pressure[part], library, residual_rows(residual, part))
+            pressure[part], library, residual_rows(residual, part), solubility_rows(solubility, part))
         if out is None:  # filled in place: no second copy of the (runs × candidates) arrays
             out = {key: np.empty((n,) + item.shape[1:], dtype=item.dtype)
                    for key, item in block.items()}

@@ -7,7 +7,8 @@ their verdicts (:mod:`molid.candidates.verdicts`), which of them a run cannot
 tell apart and what uncertainty would separate them, and the check of the
 run's ``expected`` label.
 
-Candidates are ranked by |z|, condensing ones last. The ``expected`` label of a
+Candidates are ranked by |z|; those that cannot be the gas (condensing, not a
+liquid for a flask, dissolving for a collection over water) come last. The ``expected`` label of a
 run is matched against the library and reported, but never used to rank.
 """
 
@@ -16,9 +17,11 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from molid.candidates.dissolution import load_henry_table
 from molid.candidates.evaluation import evaluate_in_blocks, residual_rows
-from molid.candidates.verdicts import SEPARATION_FACTOR, VERDICTS, rank_order, verdicts
+from molid.candidates.verdicts import DISSOLVES, SEPARATION_FACTOR, VERDICTS, rank_order, verdicts
 from molid.methods.inputs import INPUT_LABELS
+from molid.methods.registry import needs_correction
 
 __all__ = [
     "Ranking",
@@ -49,13 +52,16 @@ class Ranking:
         self._hill = self.library["hill"].fillna("").to_numpy(dtype=object)
         self._molar_mass = self.library["molar_mass"].to_numpy(dtype=float)
         self._has = self.library["has_critical_data"].to_numpy(dtype=bool)
+        henry = load_henry_table()
+        self._henry_reasons = [henry.get(str(name).strip().lower(), (0, 0, True, "", ""))[3]
+                               for name in self._names]
 
     # -- candidate lists ---------------------------------------------------------------
     def _candidates(self, block, k, top):
         z = block["z"][k]
-        condenses, not_liquid = block["condenses"][k], block["not_liquid"][k]
-        order = rank_order(z, condenses, not_liquid)
-        codes = verdicts(z, condenses, not_liquid)
+        condenses, unfit = block["condenses"][k], block["unfit"][k]
+        order = rank_order(z, condenses, unfit)
+        codes = verdicts(z, condenses, unfit)
         if top is not None:
             order = order[:top]
         items = []
@@ -81,11 +87,20 @@ class Ranking:
                 item["note"] = (f"its vapour pressure here is about "
                                 f"{block['saturation_pressure'][k, j] / 1000:.3g} kPa, below the "
                                 "gas pressure: it would condense")
+            elif block["unfit"][k, j] == DISSOLVES:
+                item["note"] = ("it cannot be collected over water: "
+                                + (self._henry_reasons[j] or "it dissolves in water"))
             elif block["near_saturation"][k, j]:
                 item["note"] = (f"close to its vapour pressure (about "
                                 f"{block['saturation_pressure'][k, j] / 1000:.3g} kPa): it could "
                                 "partly condense on cool surfaces, and its real-gas correction "
                                 "is less certain")
+            dissolved = block["dissolved"][k, j] if "dissolved" in block else np.nan
+            if np.isfinite(dissolved) and dissolved >= 0.001 and "note" not in item:
+                item["note"] = (f"dissolves in water: at equilibrium with an equal volume of water "
+                                f"about {dissolved * 100:.2g} % of it would dissolve and its result "
+                                f"read {dissolved / (1 - dissolved) * 100:.2g} % high (an upper "
+                                "bound: a short contact or water saturated with the gas takes up less)")
             items.append(item)
         return items
 
@@ -102,9 +117,9 @@ class Ranking:
     # -- what the run can and cannot tell apart -----------------------------------------
     def _distinguish(self, block, k, budget):
         z = block["z"][k]
-        condenses, not_liquid = block["condenses"][k], block["not_liquid"][k]
-        order = rank_order(z, condenses, not_liquid)
-        codes = verdicts(z, condenses, not_liquid)
+        condenses, unfit = block["condenses"][k], block["unfit"][k]
+        order = rank_order(z, condenses, unfit)
+        codes = verdicts(z, condenses, unfit)
         notes = []
         consistent = [j for j in order if codes[j] == 0]
         if not consistent:
@@ -188,9 +203,9 @@ class Ranking:
                     "note": "the label matches no library entry (or several isomers); add it "
                             "with --candidate FORMULA=NAME or --library"}
         z = block["z"][k]
-        condenses, not_liquid = block["condenses"][k], block["not_liquid"][k]
-        order = list(rank_order(z, condenses, not_liquid))
-        verdict = VERDICTS[verdicts(z[j:j + 1], condenses[j:j + 1], not_liquid[j:j + 1])[0]]
+        condenses, unfit = block["condenses"][k], block["unfit"][k]
+        order = list(rank_order(z, condenses, unfit))
+        verdict = VERDICTS[verdicts(z[j:j + 1], condenses[j:j + 1], unfit[j:j + 1])[0]]
         return {
             "expected": text,
             "name": self._names[j],
@@ -237,8 +252,11 @@ def _evaluate_runs(result, index, library):
     temperature = result.table.values["temperature"][index]
     pressure = prop.extras["dry_pressure"][index]
     residual = residual_rows(result.residual, index) if result.residual else None
+    over_water = needs_correction(result.table.text["method"].to_numpy(dtype=object)[index], "solubility")
+    solubility = {"rows": over_water, "gas_volume": result.table.values["volume"][index]} \
+        if over_water.any() else None
     return evaluate_in_blocks(prop.value[index], sensitivities, uncertainties, temperature,
-                              pressure, library, residual)
+                              pressure, library, residual, solubility)
 
 
 def _sample_groups(sample_ids, names):
@@ -296,14 +314,19 @@ def _combine_samples(result, index, runs, library, sample_ids, names):
     z = (measured - library["molar_mass"].to_numpy(dtype=float)) / u_total
     # A sample condenses for a candidate if any of its runs does.
     condenses = (matrix @ runs["condenses"][in_sample].astype(float)) > 0
-    not_liquid = (matrix @ runs["not_liquid"][in_sample].astype(float)) > 0
+    # A method's own verdict holds for the sample if any run has it (the larger code if two).
+    unfit = np.zeros(condenses.shape, dtype=np.int8)
+    for code in np.unique(runs["unfit"][in_sample]):
+        if code > 0:
+            unfit = np.where((matrix @ (runs["unfit"][in_sample] == code).astype(float)) > 0,
+                             np.int8(code), unfit)
     near = (matrix @ runs["near_saturation"][in_sample].astype(float)) > 0
     saturation = mean(runs["saturation_pressure"][in_sample])
     return {
         "Z": mean(Z), "measured": measured, "u_measured": u_measured, "u_model": u_model,
         "u_total": u_total, "z": z, "saturation_pressure": saturation, "condenses": condenses,
-        "not_liquid": not_liquid,
-        "near_saturation": near,
+        "unfit": unfit, "near_saturation": near,
+        "dissolved": mean(runs["dissolved"][in_sample].astype(float)).astype(np.float32),
     }
 
 

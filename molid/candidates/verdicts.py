@@ -10,6 +10,8 @@ excluded   |z| ≥ 3
 condenses  the pure substance would be liquid at the run's T and p
 not-a-liquid  (condensed-vapour flask) the substance is a gas at room temperature, so it
            cannot be the liquid that was vaporised
+dissolves  (gas collected over water) the gas dissolves in or reacts with water so much
+           that it cannot be collected over water
 ========== =====================================================
 
 The bands are those of the z-score performance statistic in proficiency testing:
@@ -19,7 +21,8 @@ unsatisfactory (an action signal) (from memory). At exactly |z| = 3.0 molid says
 ``marginal`` where ISO 13528 would say unsatisfactory; for a continuous z the two
 differ on a single point.
 
-Candidates are ranked by |z|, condensing ones last.
+Candidates are ranked by |z|; those that cannot be the gas (the last three
+verdicts) come after all others.
 
 References
 ----------
@@ -33,6 +36,7 @@ import numpy as np
 
 __all__ = [
     "VERDICTS",
+    "UNFIT_VERDICTS",
     "CONSISTENT_LIMIT",
     "MARGINAL_LIMIT",
     "SEPARATION_FACTOR",
@@ -42,7 +46,13 @@ __all__ = [
     "rank_order",
 ]
 
-VERDICTS = ("consistent", "marginal", "excluded", "condenses", "not-a-liquid")
+VERDICTS = ("consistent", "marginal", "excluded", "condenses", "not-a-liquid", "dissolves")
+
+#: Verdicts that say a candidate cannot be the gas whatever its z.
+UNFIT_VERDICTS = ("condenses", "not-a-liquid", "dissolves")
+
+#: Codes of the method-specific verdicts, as carried in the ``unfit`` arrays (0: none).
+NOT_A_LIQUID, DISSOLVES = VERDICTS.index("not-a-liquid"), VERDICTS.index("dissolves")
 
 #: What each verdict says of a label (the ``expected`` column) in plain words.
 LABEL_MEANINGS = {
@@ -52,6 +62,8 @@ LABEL_MEANINGS = {
     "condenses": "the labelled substance would be liquid at these conditions",
     "not-a-liquid": "the labelled substance is a gas at room temperature, not a liquid that "
                     "a condensed-vapour flask can be filled with",
+    "dissolves": "the labelled substance dissolves in or reacts with water too much to be "
+                 "collected over water",
 }
 #: |z| at or below which a candidate is consistent: ISO 13528:2015, 9.4.1, "satisfactory" |z| ≤ 2.0.
 CONSISTENT_LIMIT = 2.0
@@ -61,8 +73,23 @@ MARGINAL_LIMIT = 3.0
 SEPARATION_FACTOR = CONSISTENT_LIMIT + MARGINAL_LIMIT
 
 
-def verdicts(z, condenses, not_liquid=None) -> np.ndarray:
-    """Verdict codes (index into :data:`VERDICTS`) from z, the condensation and not-a-liquid flags.
+def verdicts(z, condenses, unfit=None) -> np.ndarray:
+    """Verdict codes (index into :data:`VERDICTS`) from z, the condensation flags and the method's own.
+
+    Parameters
+    ----------
+    z : numpy.ndarray
+        Deviations.
+    condenses : numpy.ndarray of bool
+        Whether each candidate would condense; same shape as ``z``.
+    unfit : numpy.ndarray of int, optional
+        A method's own verdict code for a candidate that cannot be its substance
+        (``not-a-liquid``, ``dissolves``), 0 where none; same shape as ``z``.
+
+    Returns
+    -------
+    numpy.ndarray of int
+        Indices into :data:`VERDICTS`.
 
     Examples
     --------
@@ -74,30 +101,32 @@ def verdicts(z, condenses, not_liquid=None) -> np.ndarray:
     codes = np.where(size <= CONSISTENT_LIMIT, 0, np.where(size < MARGINAL_LIMIT, 1, 2))
     codes = np.where(np.isnan(size), 2, codes)
     codes = np.where(condenses, 3, codes)
-    return codes if not_liquid is None else np.where(not_liquid & ~condenses, 4, codes)
+    return codes if unfit is None else np.where((unfit > 0) & ~condenses, unfit, codes)
 
 
-def rank_key(z, condenses, not_liquid=None) -> np.ndarray:
+def rank_key(z, condenses, unfit=None) -> np.ndarray:
     """Sort key of each candidate: |z|, after every other if it cannot be the gas, NaN last.
 
     Parameters
     ----------
     z : numpy.ndarray
         Deviations.
-    condenses, not_liquid : numpy.ndarray of bool
-        The flags of :func:`verdicts` (``not_liquid`` may be None); same shape as ``z``.
+    condenses : numpy.ndarray of bool
+        Whether each candidate would condense; same shape as ``z``.
+    unfit : numpy.ndarray of int, optional
+        The method's own verdict codes of :func:`verdicts` (0 where none).
 
     Returns
     -------
     numpy.ndarray
         Smaller ranks first.
     """
-    cannot = condenses if not_liquid is None else (condenses | not_liquid)
+    cannot = condenses if unfit is None else (condenses | (unfit > 0))
     return np.where(np.isnan(z), np.inf, np.abs(z)) + np.where(cannot, 1e300, 0.0)
 
 
-def rank_order(z, condenses, not_liquid=None) -> np.ndarray:
-    """Candidate positions in ranked order: by |z|, condensing ones after the rest, no z last.
+def rank_order(z, condenses, unfit=None) -> np.ndarray:
+    """Candidate positions in ranked order: by |z|, those that cannot be the gas after the rest, no z last.
 
     Parameters
     ----------
@@ -105,12 +134,12 @@ def rank_order(z, condenses, not_liquid=None) -> np.ndarray:
         Deviations, one per candidate along the last axis.
     condenses : numpy.ndarray of bool
         Whether each candidate would condense; same shape as ``z``.
-    not_liquid : numpy.ndarray of bool, optional
-        Whether each candidate is a gas at room temperature (condensed-vapour flask).
+    unfit : numpy.ndarray of int, optional
+        The method's own verdict codes of :func:`verdicts` (0 where none).
 
     Returns
     -------
     numpy.ndarray of int
         Indices that sort the last axis; ties keep library order.
     """
-    return np.argsort(rank_key(z, condenses, not_liquid), axis=-1, kind="stable")
+    return np.argsort(rank_key(z, condenses, unfit), axis=-1, kind="stable")

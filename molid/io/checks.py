@@ -13,13 +13,14 @@ import pandas as pd
 
 from molid.io.columns import METHODS
 from molid.io.headers import Header
-from molid.io.problems import RowProblems
+from molid.io.problems import InputError, RowProblems
 from molid.io.units import ColumnUnit, resolve_unit
 from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import METHODS as REGISTERED_METHODS
-from molid.methods.registry import REQUIRED_EVERYWHERE
+from molid.methods.registry import REQUIRED_EVERYWHERE, required_by_all
 
-__all__ = ["check_run_ids", "check_methods", "check_ranges"]
+__all__ = ["check_run_ids", "check_methods", "check_method_columns", "check_ranges",
+           "check_unused_inputs", "inputs_in_use"]
 
 
 def check_run_ids(run_ids: pd.Series, first_use: np.ndarray, problems: RowProblems) -> None:
@@ -215,6 +216,8 @@ def _pressure_hint(value_si: float, unit: ColumnUnit) -> str:
 def check_wet(method: pd.Series, wet: np.ndarray, problems: RowProblems) -> np.ndarray:
     """Error where a run says its gas is wet but its method cannot hold a wet gas; return the flags.
 
+    A gas collected over water is always wet (its ``humidity`` says how much).
+
     Parameters
     ----------
     method : pandas.Series
@@ -227,11 +230,14 @@ def check_wet(method: pd.Series, wet: np.ndarray, problems: RowProblems) -> np.n
     Returns
     -------
     numpy.ndarray of bool
-        The flags, unchanged.
+        The flags, True also on every row of a method whose gas is always wet.
     """
     names = method.to_numpy(dtype=object)
+    wet = np.asarray(wet, dtype=bool).copy()
     for method_name, entry in REGISTERED_METHODS.items():
-        if not entry.accepts_wet:
+        if entry.always_wet:
+            wet |= names == method_name
+        elif not entry.accepts_wet:
             problems.error((names == method_name) & wet, lambda i, method_name=method_name: (
                 f"column 'wet': a {method_name} run holds the substance's own vapour, not a gas "
                 "saturated with water; leave 'wet' empty or 'no'"))
@@ -270,3 +276,83 @@ def check_method_inputs(method: pd.Series, blanks: dict, by_name: dict[str, Head
                 problems.error(mine & blanks[name], lambda i, original=original, label=label,
                                method_name=method_name: (
                     f"column '{original}': the cell is empty; a {method_name} run needs it ({label})"))
+
+
+def check_method_columns(method: pd.Series, by_name: dict[str, Header], source: str) -> None:
+    """Refuse a file that lacks a column every one of its methods needs.
+
+    Parameters
+    ----------
+    method : pandas.Series
+        Each row's method name (unknown names are ignored).
+    by_name : dict of Header
+        The file's headers by column name.
+    source : str
+        The file's name, for the message.
+
+    Raises
+    ------
+    InputError
+        Naming the missing columns and the methods that need them: no row of
+        the file could be analysed.
+    """
+    used = [name for name in pd.unique(method.dropna()) if name in REGISTERED_METHODS]
+    missing = [name for name in required_by_all(used) if name not in by_name
+               and name not in REQUIRED_EVERYWHERE]
+    if missing:
+        raise InputError(
+            f"{source}: required column(s) missing: {', '.join(missing)}; every "
+            f"{', '.join(used)} run needs them. Found: "
+            + ", ".join(f"'{header.original}'" for header in by_name.values()))
+
+
+def inputs_in_use(method: pd.Series) -> dict:
+    """Which rows use each measured input that not every method uses.
+
+    Parameters
+    ----------
+    method : pandas.Series
+        Each row's method name.
+
+    Returns
+    -------
+    dict of numpy.ndarray of bool
+        Per input that some method does not use: True on the rows whose method
+        uses it (requires or takes it when given), and on rows of unknown method.
+    """
+    names = method.to_numpy(dtype=object)
+    known = np.isin(names, list(REGISTERED_METHODS))
+    inputs = set().union(*(set(entry.required_inputs) | set(entry.optional_inputs)
+                           for entry in REGISTERED_METHODS.values()))
+    in_use = {}
+    for name in sorted(inputs):
+        users = [method_name for method_name, entry in REGISTERED_METHODS.items()
+                 if name in entry.required_inputs or name in entry.optional_inputs]
+        if len(users) < len(REGISTERED_METHODS):
+            in_use[name] = np.isin(names, users) | ~known
+    return in_use
+
+
+def check_unused_inputs(in_use: dict, blanks: dict, by_name: dict[str, Header],
+                        method: pd.Series, problems: RowProblems) -> None:
+    """Warn where a row gives a value its method does not use (it is kept in the outputs, not used).
+
+    Parameters
+    ----------
+    in_use : dict of numpy.ndarray of bool
+        From :func:`inputs_in_use`.
+    blanks : dict of numpy.ndarray
+        Per measured column, True where the row gives no usable value.
+    by_name : dict of Header
+        The file's headers by column name.
+    method : pandas.Series
+        Each row's method name.
+    problems : RowProblems
+        Where the warnings go.
+    """
+    names = method.to_numpy(dtype=object)
+    for name, rows in in_use.items():
+        if name in by_name:
+            original = by_name[name].original
+            problems.warn(~rows & ~blanks[name], lambda i, original=original: (
+                f"column '{original}' is not used by a {names[i]} run; its value is ignored"))

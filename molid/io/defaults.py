@@ -12,6 +12,8 @@ import numpy as np
 
 from molid.io.columns import UNCERTAIN_INPUTS
 from molid.io.profiles import InstrumentProfile
+from molid.methods.inputs import INPUT_LABELS
+from molid.methods.registry import METHODS
 
 __all__ = ["fill_defaults"]
 
@@ -22,7 +24,7 @@ AIR_CONDITIONS = (("air_temperature", "temperature"), ("air_pressure", "pressure
 
 
 def fill_defaults(values: dict, blanks: dict, stated: dict, profile: InstrumentProfile,
-                  notes: list) -> tuple[dict, dict, dict]:
+                  notes: list, method=None, in_use=None) -> tuple[dict, dict, dict]:
     """Fill missing values and uncertainties from the gas's conditions and the profile.
 
     Parameters
@@ -38,6 +40,11 @@ def fill_defaults(values: dict, blanks: dict, stated: dict, profile: InstrumentP
         Default uncertainties and assumed values.
     notes : list of str
         File-level remarks, extended with one per kind of default applied.
+    method : array_like of str, optional
+        Each row's method: its own defaults (``Method.input_defaults``) apply first.
+    in_use : dict of numpy.ndarray, optional
+        Per input, the rows whose method uses it (see :func:`molid.io.checks.inputs_in_use`);
+        elsewhere the input is 0 with no uncertainty, and no note speaks of it.
 
     Returns
     -------
@@ -48,13 +55,41 @@ def fill_defaults(values: dict, blanks: dict, stated: dict, profile: InstrumentP
     shared : dict of numpy.ndarray
         The part of each uncertainty common to every run with the same instrument.
     """
+    in_use = in_use or {}
+    if method is not None:
+        _fill_method_defaults(np.asarray(method, dtype=object), values, blanks, stated, notes)
+    for name, rows in in_use.items():
+        # an input the row's method does not use: neither assumed nor defaulted, and harmless
+        values[name] = np.where(rows, values[name], 0.0)
+        blanks[name] = blanks[name] & rows
     given = {}
     for name, gas_name in AIR_CONDITIONS:
         given[name] = ~blanks[name]
         values[name] = np.where(given[name], values[name], values[gas_name])
     assumed_rows = _fill_assumed_inputs(values, blanks, profile, notes)
-    uncertainties, shared = _uncertainties(values, stated, given, assumed_rows, profile, notes)
+    uncertainties, shared = _uncertainties(values, stated, given, assumed_rows, profile, notes, in_use)
+    for name, rows in in_use.items():
+        uncertainties[name] = np.where(rows, uncertainties[name], 0.0)
+        shared[name] = np.where(rows, shared[name], 0.0)
     return given, uncertainties, shared
+
+
+def _fill_method_defaults(method, values: dict, blanks: dict, stated: dict, notes: list) -> None:
+    """Put each method's own defaults (a value, no uncertainty) where its rows leave an input blank."""
+    for method_name, entry in METHODS.items():
+        mine = method == method_name
+        if not entry.input_defaults or not mine.any():
+            continue
+        for name, value, meaning in entry.input_defaults:
+            rows = mine & blanks[name]
+            if not rows.any():
+                continue
+            values[name] = np.where(rows, value, values[name])
+            blanks[name] = blanks[name] & ~rows
+            stated[name] = np.where(rows, 0.0, stated.get(name, np.full(len(method), np.nan)))
+            how_many = "any" if rows.sum() == mine.sum() else "some"
+            label = INPUT_LABELS.get(name, name)
+            notes.append(f"{label} not given for {how_many} {method_name} runs: taken as {meaning}")
 
 
 def _fill_assumed_inputs(values: dict, blanks: dict, profile: InstrumentProfile,
@@ -79,7 +114,7 @@ def _fill_assumed_inputs(values: dict, blanks: dict, profile: InstrumentProfile,
 
 
 def _uncertainties(values: dict, stated: dict, given: dict, assumed_rows: dict,
-                   profile: InstrumentProfile, notes: list) -> tuple[dict, dict]:
+                   profile: InstrumentProfile, notes: list, in_use: dict) -> tuple[dict, dict]:
     """Give each input the stated uncertainty where there is one, else the profile's, and its shared part."""
     uncertainties: dict[str, np.ndarray] = {}
     shared: dict[str, np.ndarray] = {}
@@ -89,13 +124,14 @@ def _uncertainties(values: dict, stated: dict, given: dict, assumed_rows: dict,
         if name in stated:
             use_default = np.isnan(stated[name])
             uncertainties[name] = np.where(use_default, default, stated[name])
+            use_default = use_default & in_use.get(name, True)
             # A u_<name> cell says nothing of calibration: it counts as run-to-run.
             shared[name] = np.where(use_default, default_shared, 0.0)
             if name in given:
                 uncertainties[name] = np.where(given[name], uncertainties[name], 0.0)
                 shared[name] = np.where(given[name], shared[name], 0.0)
         else:
-            use_default = np.ones(len(values[name]), dtype=bool)
+            use_default = in_use.get(name, np.ones(len(values[name]), dtype=bool))
             uncertainties[name] = default
             shared[name] = default_shared
         # Assumed inputs have a note of their own; an air condition taken from the gas has none.

@@ -57,10 +57,10 @@ class InstrumentProfile:
     source: str
 
     def rule(self, name: str) -> UncertaintyRule:
-        """Return the rule for an input, falling back from ``mass_tare`` to ``mass``."""
+        """Return the rule for an input, falling back from ``mass_tare`` or ``source_before`` to ``mass``."""
         if name in self.rules:
             return self.rules[name]
-        if name.startswith("mass_") and "mass" in self.rules:
+        if name.startswith(("mass_", "source_")) and "mass" in self.rules:
             return self.rules["mass"]
         return UncertaintyRule()
 

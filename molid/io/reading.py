@@ -28,7 +28,16 @@ from molid.io.cells import (
     read_wet,
     text_columns,
 )
-from molid.io.checks import check_method_inputs, check_methods, check_ranges, check_run_ids, check_wet
+from molid.io.checks import (
+    check_method_columns,
+    check_method_inputs,
+    check_methods,
+    check_ranges,
+    check_run_ids,
+    check_unused_inputs,
+    check_wet,
+    inputs_in_use,
+)
 from molid.io.defaults import fill_defaults
 from molid.io.headers import measured_units, parse_header, resolve_headers, uncertainty_columns
 from molid.io.problems import InputError, RowProblems
@@ -372,16 +381,20 @@ def parse_runs(
 def _measured_values(raw, by_name, units, decimal_comma, profile, register, problems, notes, source,
                      method):
     """Read the measured columns and their uncertainties; fill volumes from a vessel register."""
+    check_method_columns(method, by_name, source)
     ids = vessel_rows(raw, by_name, register, source)
     values, blanks = read_measured(raw, by_name, units, decimal_comma, problems,
                                    None if ids is None else {"volume": pd.notna(ids)})
     # before the defaults fill blanks in: a method's own inputs are never assumed
     check_method_inputs(method, blanks, by_name, problems)
+    in_use = inputs_in_use(method)
+    check_unused_inputs(in_use, blanks, by_name, method, problems)
     stated = read_stated_uncertainties(raw, uncertainty_columns(by_name, units, source, notes),
                                        decimal_comma, problems)
     found = None if ids is None else look_up_vessels(ids, register, values, blanks, stated, by_name,
                                                      problems)
-    given, uncertainties, shared = fill_defaults(values, blanks, stated, profile, notes)
+    given, uncertainties, shared = fill_defaults(values, blanks, stated, profile, notes,
+                                                 method.to_numpy(dtype=object), in_use)
     if found is not None:
         share_vessel_volumes(found, values, uncertainties, shared, register, problems, notes)
     return values, given, uncertainties, shared

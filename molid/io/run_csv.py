@@ -50,8 +50,8 @@ def _top_candidates(ranking, n_rows, places):
     if len(rows) == 0:
         return names, verdict, z_out
     z = ranking.runs["z"]
-    condenses, not_liquid = ranking.runs["condenses"], ranking.runs["not_liquid"]
-    key = rank_key(z, condenses, not_liquid)
+    condenses, unfit = ranking.runs["condenses"], ranking.runs["unfit"]
+    key = rank_key(z, condenses, unfit)
     count = min(places, key.shape[1])
     best = np.argpartition(key, count - 1, axis=1)[:, :count] if key.shape[1] > count else \
         np.tile(np.arange(key.shape[1]), (len(rows), 1))
@@ -60,7 +60,7 @@ def _top_candidates(ranking, n_rows, places):
     best = np.take_along_axis(best, np.lexsort((best, best_key), axis=1), axis=1)[:, :count]
     library_names = ranking.library["name"].to_numpy(dtype=object)
     codes = verdicts(np.take_along_axis(z, best, axis=1), np.take_along_axis(condenses, best, axis=1),
-                     np.take_along_axis(not_liquid, best, axis=1))
+                     np.take_along_axis(unfit, best, axis=1))
     names[rows, :count] = library_names[best]
     verdict[rows, :count] = np.asarray(VERDICTS, dtype=object)[codes]
     z_out[rows, :count] = np.round(np.take_along_axis(z, best, axis=1), 3)
@@ -137,7 +137,7 @@ def _label_verdicts(ranking, n_rows):
         k = np.asarray([position[i] for i in rows])
         columns = np.asarray(columns)
         codes = verdicts(ranking.runs["z"][k, columns], ranking.runs["condenses"][k, columns],
-                         ranking.runs["not_liquid"][k, columns])
+                         ranking.runs["unfit"][k, columns])
         out[rows] = np.asarray(VERDICTS, dtype=object)[codes]
     return out
 

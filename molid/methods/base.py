@@ -12,12 +12,17 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass, fields
 
+import numpy as np
+
 from molid.methods.inputs import MEASURED_INPUTS
 from molid.methods.mistakes import MISTAKE_CODES
 from molid.physics.constants import CONVENTIONAL_MASS_DENSITY
 
 __all__ = [
     "CANDIDATE_CORRECTIONS",
+    "barometric_pressure",
+    "room_air_humidity",
+    "saturated_when_wet",
     "same_volume",
     "no_row_checks",
     "DEFAULT_GLASS_MASS",
@@ -26,9 +31,10 @@ __all__ = [
     "missing_parts",
 ]
 
-#: Per-candidate corrections the candidate evaluation knows how to apply: the candidate's
-#: own compressibility factor, and (condensed-vapour flask) the air its own vapour keeps out.
-CANDIDATE_CORRECTIONS = ("compressibility", "residual-vapour")
+#: Per-candidate corrections and checks the candidate evaluation knows how to apply: the
+#: candidate's own compressibility factor, (condensed-vapour flask) the air its own vapour
+#: keeps out, and (gas collected over water) its solubility in the water.
+CANDIDATE_CORRECTIONS = ("compressibility", "residual-vapour", "solubility")
 
 #: Mass of the glass of a simulated vessel [kg] (any value: it cancels).
 DEFAULT_GLASS_MASS = 0.15234
@@ -64,6 +70,21 @@ def conventional_mass_factor(air_density):
 def same_volume(volume, temperature):
     """Return the volume unchanged: a vessel used at the temperature it was measured at [m³]."""
     return volume + 0.0 * temperature
+
+
+def barometric_pressure(pressure, temperature, water_column):
+    """Return the pressure as read: the gas was sealed at the barometric pressure [Pa]."""
+    return pressure + 0.0 * temperature + 0.0 * water_column
+
+
+def saturated_when_wet(humidity, wet):
+    """Return the gas's water-vapour saturation: 1 where the run says it is wet, else 0."""
+    return np.where(wet, 1.0, 0.0) + 0.0 * humidity
+
+
+def room_air_humidity(humidity):
+    """Return the humidity column as it is: the relative humidity of the balance-room air."""
+    return humidity
 
 
 def no_row_checks(values, written):
@@ -115,6 +136,23 @@ class Method:
         as printed beside it ("ideal gas").
     accepts_wet : bool
         Whether a run may say its gas is saturated with water vapour (``wet``).
+    readings : tuple of str
+        The two balance readings ``gas_mass`` takes, in its order.
+    gas_pressure : callable
+        ``gas_pressure(pressure, temperature, water_column)`` → the total pressure
+        of the gas [Pa] from the barometric pressure; complex-step safe.
+    vapour_saturation : callable
+        ``vapour_saturation(humidity, wet)`` → the gas's water vapour as a fraction
+        of saturation at its temperature [1]; complex-step safe in ``humidity``.
+    air_humidity : callable
+        ``air_humidity(humidity)`` → the relative humidity of the balance-room air [1].
+    weighs_water : bool
+        Whether the weighed mass includes the water vapour of a wet gas.
+    always_wet : bool
+        Whether the gas is always wet (collected over water): its ``humidity`` is the gas's.
+    input_defaults : tuple of (str, float, str)
+        Optional inputs that default to a fixed value with no uncertainty on this
+        method's rows when blank: (name, SI value, what the default means).
     """
 
     name: str
@@ -132,6 +170,13 @@ class Method:
     gas_volume: Callable = None
     headline_model: str = "ideal gas"
     accepts_wet: bool = True
+    readings: tuple = ("mass_tare", "mass_filled")
+    gas_pressure: Callable = barometric_pressure
+    vapour_saturation: Callable = saturated_when_wet
+    air_humidity: Callable = room_air_humidity
+    weighs_water: bool = True
+    always_wet: bool = False
+    input_defaults: tuple = ()
 
 
 def missing_parts(method: Method) -> list[str]:
@@ -154,13 +199,19 @@ def missing_parts(method: Method) -> list[str]:
             problems.append(f"{field.name} is missing")
     if not isinstance(method.name, str) or not method.name:
         problems.append("name is empty")
-    for name in ("gas_mass", "simulate_readings", "row_checks", "gas_volume"):
+    for name in ("gas_mass", "simulate_readings", "row_checks", "gas_volume", "gas_pressure",
+                 "vapour_saturation", "air_humidity"):
         if not callable(getattr(method, name, None)):
             problems.append(f"{name} is not callable")
     unknown = set(method.required_inputs or ()) | set(method.optional_inputs or ())
     unknown -= set(MEASURED_INPUTS)
     if unknown:
         problems.append(f"inputs not in the vocabulary: {sorted(unknown)}")
+    if len(method.readings or ()) != 2 or not set(method.readings) <= set(method.required_inputs or ()):
+        problems.append(f"readings {method.readings} must be two of the required inputs")
+    defaulted = {name for name, _, _ in method.input_defaults or ()}
+    if not defaulted <= set(method.optional_inputs or ()):
+        problems.append(f"input defaults for inputs that are not optional: {sorted(defaulted)}")
     if not set(method.candidate_corrections or ()) <= set(CANDIDATE_CORRECTIONS):
         problems.append(f"unknown candidate corrections: {method.candidate_corrections}")
     if not method.mistakes or not set(method.mistakes) <= set(MISTAKE_CODES):

@@ -19,6 +19,9 @@ MEASURED_INPUTS = (
     "air_temperature",
     "air_pressure",
     "co2",
+    "source_before",
+    "source_after",
+    "water_column",
 )
 
 #: Physical kind of each measured column (and of the student's reported result).
@@ -32,6 +35,9 @@ COLUMN_KINDS = {
     "air_temperature": "temperature",
     "air_pressure": "pressure",
     "co2": "fraction",
+    "source_before": "mass",
+    "source_after": "mass",
+    "water_column": "length",
     "reported_molar_mass": "molar_mass",
 }
 
@@ -51,10 +57,13 @@ INPUT_LABELS = {
     "volume": "volume",
     "temperature": "gas temperature",
     "pressure": "gas pressure",
-    "humidity": "air humidity",
+    "humidity": "humidity",
     "air_temperature": "balance-room temperature",
     "air_pressure": "balance-room pressure",
     "co2": "air CO2 fraction",
+    "source_before": "source reading before release",
+    "source_after": "source reading after release",
+    "water_column": "water column in the tube",
     "air_density_formula": "air-density formula (CIPM-2007)",
     "water_vapour": "water vapour in the wet gas",
 }

@@ -19,6 +19,8 @@ MISTAKE_CODES = (
     "masses-swapped",
     "gas-constant-units",
     "room-temperature-for-vapour",
+    "water-vapour-not-subtracted",
+    "water-column-ignored",
 )
 UNEXPLAINED = "unexplained"
 
@@ -29,10 +31,14 @@ DESCRIPTIONS = {
     "pressure-unit": "the pressure is used in the wrong unit (mmHg, torr, atm, kPa and bar "
                      "mixed up)",
     "no-buoyancy": "the mass of the air the bulb or syringe displaces is left out",
-    "masses-swapped": "the tare and filled readings are exchanged",
+    "masses-swapped": "the two balance readings are exchanged (tare and filled, or before and after)",
     "gas-constant-units": "R is taken in units that do not match the pressure and volume",
     "room-temperature-for-vapour": "the room temperature is used for the vapour instead of the "
                                    "bath temperature at which it filled the flask",
+    "water-vapour-not-subtracted": "the water's vapour pressure is not subtracted: the gas "
+                                   "collected over water is taken at the whole pressure",
+    "water-column-ignored": "the water column in the tube is ignored: the gas is taken at the "
+                            "barometric pressure, not that less the raised water",
     UNEXPLAINED: "no single classic mistake explains the difference between your result and "
                  "your readings; check the arithmetic step by step",
 }

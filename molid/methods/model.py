@@ -1,7 +1,8 @@
 """The measurement model shared by all methods: readings and conditions to molar mass.
 
 Each run's method (see :mod:`molid.methods.registry`) turns its two balance
-readings into the mass of gas in the vessel; the moist-air density comes from
+readings into the mass of gas in the vessel (or released by a source) and its
+barometric pressure into the gas's (less a water column, over water); the moist-air density comes from
 CIPM-2007; a wet gas loses its water vapour's mass and partial pressure; the
 ideal gas law then gives the molar mass. The model functions take arrays of
 equal shape (SI units) and use only arithmetic and analytic numpy functions, so
@@ -10,8 +11,9 @@ that :mod:`molid.uncertainty.propagation` can differentiate them by complex step
 Wet gas
 -------
 A gas saturated with water vapour at temperature T holds water at partial
-pressure ``p_w = p_sat(T)``; the dry gas has partial pressure ``p − p_w`` and
-the weighed mass includes ``m_w = p_w·V·M_w/(R·T)``.
+pressure ``p_w = φ·p_sat(T)`` (φ = 1 for a gas said to be wet; the collected gas's
+humidity over water); the dry gas has partial pressure ``p − p_w`` and, where the
+vessel itself is weighed, the weighed mass includes ``m_w = p_w·V·M_w/(R·T)``.
 """
 
 from __future__ import annotations
@@ -23,15 +25,16 @@ from molid.physics.air import moist_air_density
 from molid.physics.constants import GAS_CONSTANT
 from molid.physics.water import MOLAR_MASS_WATER, saturation_pressure_water
 
-__all__ = ["gas_mass", "ideal_gas_molar_mass", "measurement_model"]
+__all__ = ["gas_mass", "ideal_gas_molar_mass", "measurement_model", "method_readings"]
 
-def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
-    r"""Mass of gas in the vessel from two balance readings [kg].
+def gas_mass(first_reading, second_reading, volume, air_density, method_code):
+    r"""Mass of gas from each run's two balance readings [kg].
 
     Parameters
     ----------
-    mass_tare, mass_filled : array_like
-        Balance indications before and after filling [kg].
+    first_reading, second_reading : array_like
+        The two indications each run's method weighs (see :func:`method_readings`):
+        tare and filled for a vessel, before and after for a source [kg].
     volume : array_like
         Internal volume of the bulb, or volume drawn into the syringe [m³].
     air_density : array_like
@@ -63,7 +66,27 @@ def gas_mass(mass_tare, mass_filled, volume, air_density, method_code):
     1.499955
     """
     return select_by_method(
-        method_code, lambda method: method.gas_mass(mass_tare, mass_filled, volume, air_density))
+        method_code, lambda method: method.gas_mass(first_reading, second_reading, volume, air_density))
+
+
+def method_readings(inputs: dict, method_code):
+    """Each run's two balance readings, picked by its method from the named inputs [kg].
+
+    Parameters
+    ----------
+    inputs : dict of array_like
+        The model's inputs by name (``mass_tare``, ``source_before``, ...).
+    method_code : array_like of int
+        Each run's method code.
+
+    Returns
+    -------
+    tuple of numpy.ndarray
+        The first and second readings of each run's method (``Method.readings``).
+    """
+    first = select_by_method(method_code, lambda method: inputs[method.readings[0]])
+    second = select_by_method(method_code, lambda method: inputs[method.readings[1]])
+    return first, second
 
 
 def ideal_gas_molar_mass(mass, temperature, pressure, volume):
@@ -100,45 +123,47 @@ def ideal_gas_molar_mass(mass, temperature, pressure, volume):
     return mass * GAS_CONSTANT * temperature / (pressure * volume)
 
 
-def _water_pressure(wet, temperature, water_vapour):
+def _water_pressure(wet, temperature, water_vapour, saturation):
     """Partial pressure of the water vapour of a wet gas [Pa]; 0 for a dry one."""
     if not np.any(wet):
         return 0.0 * water_vapour
     with np.errstate(all="ignore"):  # dry rows at odd temperatures need no p_sat
-        saturation = saturation_pressure_water(temperature)
-    return np.where(wet, saturation * (1.0 + water_vapour), 0.0)
+        pressure = saturation_pressure_water(temperature)
+    return np.where(wet, saturation * pressure * (1.0 + water_vapour), 0.0)
+
+
+def _gas_and_water(method_code, volume, temperature, pressure, humidity, water_column, wet,
+                   water_vapour):
+    """Each run's gas volume [m³], gas pressure [Pa], water-vapour pressure [Pa] and weighed water [kg]."""
+    gas_volume = select_by_method(method_code, lambda method: method.gas_volume(volume, temperature))
+    gas_pressure = select_by_method(
+        method_code, lambda method: method.gas_pressure(pressure, temperature, water_column))
+    saturation = select_by_method(method_code, lambda method: method.vapour_saturation(humidity, wet))
+    water_pressure = _water_pressure(wet, temperature, water_vapour, saturation)
+    # a source weighed before and after a release never held the tube's water vapour
+    weighs_water = select_by_method(method_code, lambda method: 1.0 if method.weighs_water else 0.0)
+    water_mass = weighs_water * water_pressure * gas_volume * MOLAR_MASS_WATER / (GAS_CONSTANT * temperature)
+    return gas_volume, gas_pressure, water_pressure, water_mass
 
 
 def measurement_model(
-    mass_tare,
-    mass_filled,
-    volume,
-    temperature,
-    pressure,
-    humidity,
-    air_temperature,
-    air_pressure,
-    co2,
-    air_density_formula,
-    water_vapour,
-    *,
-    method_code,
-    wet,
-    air_temperature_given,
-    air_pressure_given,
+    mass_tare, mass_filled, volume, temperature, pressure, humidity, air_temperature, air_pressure,
+    co2, air_density_formula, water_vapour, source_before=0.0, source_after=0.0, water_column=0.0,
+    *, method_code, wet, air_temperature_given, air_pressure_given,
 ):
     """Evaluate the full measurement model: every input to the ideal-gas molar mass.
 
     Parameters
     ----------
     mass_tare, mass_filled : array_like
-        Balance indications [kg].
+        Balance indications of a vessel [kg].
     volume : array_like
         Gas volume [m³].
     temperature, pressure : array_like
-        Gas temperature [K] and total pressure [Pa] when sealed.
+        Gas temperature [K] and barometric pressure [Pa] when sealed or read.
     humidity : array_like
-        Relative humidity of the balance-room air [fraction, 0-1].
+        Relative humidity of the balance-room air, or (gas collected over water)
+        of the collected gas [fraction, 0-1].
     air_temperature, air_pressure : array_like
         Balance-room conditions [K], [Pa]; used only where given, else the gas's.
     co2 : array_like
@@ -147,10 +172,14 @@ def measurement_model(
         Relative correction to the CIPM-2007 air density (value 0; carries its uncertainty).
     water_vapour : array_like
         Relative correction to the water partial pressure of wet gas (value 0).
+    source_before, source_after : array_like
+        Balance indications of a gas source before and after a release [kg].
+    water_column : array_like
+        Height of the water inside a collection tube above the outside level [m].
     method_code : array_like of int
         See :func:`gas_mass`.
     wet : array_like of bool
-        Gas saturated with water vapour at its temperature.
+        Gas saturated with water vapour at its temperature (always, over water).
     air_temperature_given, air_pressure_given : array_like of bool
         Where the row states its own balance-room conditions.
 
@@ -159,28 +188,34 @@ def measurement_model(
     dict of numpy.ndarray
         ``molar_mass`` [kg/mol] of the dry gas under the ideal gas law, and the
         intermediate ``air_density`` [kg/m³], ``gas_mass`` [kg] (dry gas),
-        ``water_mass`` [kg], ``dry_pressure`` [Pa] and ``residual_vapour_factor``
-        [kg/(mol·Pa)]: ρa·V·R·T/(p²·V_T), which times a candidate's vapour
-        pressure at room temperature gives the residual-vapour correction of a
-        condensed-vapour flask (used only for methods that declare it).
+        ``water_mass`` [kg], ``dry_pressure`` [Pa], ``water_pressure`` [Pa],
+        ``column_pressure`` [Pa] (the water column's, over water) and
+        ``residual_vapour_factor`` [kg/(mol·Pa)]: ρa·V·R·T/(p²·V_T), which times a
+        candidate's vapour pressure at room temperature gives the residual-vapour
+        correction of a condensed-vapour flask (used only for methods that declare it).
     """
     room_temperature = np.where(air_temperature_given, air_temperature, temperature)
     room_pressure = np.where(air_pressure_given, air_pressure, pressure)
-    air_density = moist_air_density(room_pressure, room_temperature, humidity, co2) * (
+    room_humidity = select_by_method(method_code, lambda method: method.air_humidity(humidity))
+    air_density = moist_air_density(room_pressure, room_temperature, room_humidity, co2) * (
         1.0 + air_density_formula
     )
-    total_mass = gas_mass(mass_tare, mass_filled, volume, air_density, method_code)
-    gas_volume = select_by_method(method_code, lambda method: method.gas_volume(volume, temperature))
-    water_pressure = _water_pressure(wet, temperature, water_vapour)
-    water_mass = water_pressure * gas_volume * MOLAR_MASS_WATER / (GAS_CONSTANT * temperature)
+    first, second = method_readings(
+        {"mass_tare": mass_tare, "mass_filled": mass_filled, "source_before": source_before,
+         "source_after": source_after}, method_code)
+    total_mass = gas_mass(first, second, volume, air_density, method_code)
+    gas_volume, gas_pressure, water_pressure, water_mass = _gas_and_water(
+        method_code, volume, temperature, pressure, humidity, water_column, wet, water_vapour)
     dry_mass = total_mass - water_mass
-    dry_pressure = pressure - water_pressure
+    dry_pressure = gas_pressure - water_pressure
     return {
         "molar_mass": ideal_gas_molar_mass(dry_mass, temperature, dry_pressure, gas_volume),
         "air_density": air_density,
         "gas_mass": dry_mass,
         "water_mass": water_mass,
         "dry_pressure": dry_pressure,
+        "water_pressure": water_pressure,
+        "column_pressure": pressure - gas_pressure,
         # molar mass per pascal of a candidate's vapour pressure left in a cooled flask
         # (the residual-vapour correction is this times p_sat(T_room); see vapour_flask)
         "residual_vapour_factor": air_density * volume * GAS_CONSTANT * temperature

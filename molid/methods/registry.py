@@ -11,17 +11,19 @@ from __future__ import annotations
 
 import numpy as np
 
-from molid.methods import air_tare_bulb, evacuated_bulb, syringe, vapour_flask
+from molid.methods import air_tare_bulb, evacuated_bulb, over_water, syringe, vapour_flask
 from molid.methods.base import Method, missing_parts
 
 __all__ = [
     "METHODS",
     "METHOD_CODES",
     "REQUIRED_EVERYWHERE",
+    "required_by_all",
     "method_codes",
     "select_by_method",
     "mistake_applies",
     "headline_models",
+    "needs_correction",
 ]
 
 
@@ -36,16 +38,37 @@ def _register(*methods: Method) -> dict:
 
 
 #: Every method, by the name a run sheet gives it.
-METHODS = _register(evacuated_bulb.METHOD, air_tare_bulb.METHOD, syringe.METHOD, vapour_flask.METHOD)
+METHODS = _register(evacuated_bulb.METHOD, air_tare_bulb.METHOD, syringe.METHOD, vapour_flask.METHOD,
+                    over_water.METHOD)
 
 #: Integer code of each method, used inside the vectorised model.
 METHOD_CODES = {name: code for code, name in enumerate(METHODS)}
 
-#: Inputs every registered method needs (a file without one of these columns is refused).
-REQUIRED_EVERYWHERE = tuple(
-    name for name in next(iter(METHODS.values())).required_inputs
-    if all(name in method.required_inputs for method in METHODS.values())
-)
+
+
+def required_by_all(names) -> tuple:
+    """Return the inputs every one of the named methods requires (unknown names are skipped).
+
+    Parameters
+    ----------
+    names : iterable of str
+        Method names, e.g. the distinct methods of a file.
+
+    Returns
+    -------
+    tuple of str
+        The inputs, in the order of the first method's list; empty when no name is known.
+
+    Examples
+    --------
+    >>> required_by_all(["evacuated-bulb", "over-water"])
+    ('volume', 'temperature', 'pressure')
+    """
+    known = [METHODS[name] for name in dict.fromkeys(names) if name in METHODS]
+    if not known:
+        return ()
+    return tuple(name for name in known[0].required_inputs
+                 if all(name in method.required_inputs for method in known))
 
 
 def method_codes(methods) -> np.ndarray:
@@ -135,3 +158,26 @@ def headline_models(methods) -> np.ndarray:
     words = {name: method.headline_model for name, method in METHODS.items()}
     mapped = pd.Series(np.asarray(methods, dtype=object), dtype=object).map(words)
     return mapped.fillna("ideal gas").to_numpy(dtype=object)
+
+
+#: Inputs every registered method needs (a file without one of these columns is refused).
+REQUIRED_EVERYWHERE = required_by_all(METHODS)
+
+
+def needs_correction(methods, correction: str) -> np.ndarray:
+    """Whether each run's method declares a per-candidate correction or check.
+
+    Parameters
+    ----------
+    methods : array_like of str
+        Method names, one per run.
+    correction : str
+        A name of :data:`molid.methods.base.CANDIDATE_CORRECTIONS`.
+
+    Returns
+    -------
+    numpy.ndarray of bool
+        False where the method is unknown.
+    """
+    names = [name for name, method in METHODS.items() if correction in method.candidate_corrections]
+    return np.isin(np.asarray(methods, dtype=object), names)

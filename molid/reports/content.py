@@ -29,6 +29,7 @@ from molid.candidates.hazards import (
 from molid.candidates.vapour_pressures import saturation_pressure
 from molid.candidates.verdicts import LABEL_MEANINGS
 from molid.methods.inputs import INPUT_LABELS
+from molid.methods.registry import METHODS
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = [
@@ -59,10 +60,12 @@ _G = 1e3  # kg/mol → g/mol
 _UNIT_WORDS = {"degC": "°C", "degF": "°F", "percent": "%", "m**3": "m³", "cm**3": "cm³",
                "cm^3": "cm³", "m^3": "m³", "kelvin": "K"}
 
-#: Inputs shown in the inputs table, in order.
-_INPUT_COLUMNS = ("mass_tare", "mass_filled", "volume", "temperature", "pressure", "humidity")
-_SHORT = {"mass_tare": "tare", "mass_filled": "filled", "volume": "V", "temperature": "T",
-          "pressure": "p", "humidity": "RH", "air_temperature": "air T",
+#: Inputs shown in the inputs table, in order, where the page's methods use them.
+_INPUT_COLUMNS = ("mass_tare", "mass_filled", "source_before", "source_after", "volume", "temperature",
+                  "pressure", "water_column", "humidity")
+_SHORT = {"mass_tare": "tare", "mass_filled": "filled", "source_before": "before",
+          "source_after": "after", "volume": "V", "temperature": "T", "pressure": "p",
+          "water_column": "h water", "humidity": "RH", "air_temperature": "air T",
           "air_pressure": "air p", "co2": "CO₂"}
 
 _OPERATOR_HEADERS = ("operator", "analyst", "analysed_by", "student", "name")
@@ -369,8 +372,12 @@ def _groups(result):
 
 
 def _input_names(table, positions) -> list:
-    """Pick the inputs the table shows: the fixed ones, air conditions when given, the wet flag."""
-    names = list(_INPUT_COLUMNS)
+    """Pick the inputs the table shows: those the page's methods use, air conditions when given, wet."""
+    used = set()
+    for method in set(table.text["method"].to_numpy(dtype=object)[positions]):
+        entry = METHODS.get(method)
+        used |= set(_INPUT_COLUMNS) if entry is None else set(entry.required_inputs + entry.optional_inputs)
+    names = [name for name in _INPUT_COLUMNS if name in used]
     for extra in ("air_temperature", "air_pressure"):
         if table.given[extra][positions].any():
             names.append(extra)
@@ -399,7 +406,7 @@ def _input_display(table, names, positions):
             continue
         unit = table.units[name]
         headers.append(f"{_SHORT[name]} [{_unit_text(unit)}]")
-        widths.append(15.0 if name.startswith("mass") else 13.0)
+        widths.append(15.0 if name.startswith(("mass", "source")) else 13.0)
         values = _to_display(table.values[name][positions], unit)
         u = np.asarray(table.uncertainties[name][positions], dtype=float) / unit.scale
         display[name] = (values, u)
@@ -411,9 +418,13 @@ def _input_display(table, names, positions):
 def _input_cells(table, position, k, names, display, same_u, typed) -> list:
     """Give one run's input cells: as typed when the file has the digits, u beside when it varies."""
     cells = []
+    entry = METHODS.get(table.text["method"].iloc[position])
     for name in names:
         if name == "wet":
             cells.append("yes" if table.wet[position] else "no")
+            continue
+        if entry is not None and name not in entry.required_inputs + entry.optional_inputs:
+            cells.append("")  # not an input of this run's method
             continue
         values, u = display[name]
         written = typed[name][position] if name in typed else ""
@@ -638,7 +649,7 @@ def _nearby(candidates, value, expanded, label_name, limit=6):
         own = value if own is None else own
         return min(abs(item["molar_mass"] - value), abs(item["molar_mass"] - own))
 
-    possible = [item for item in candidates if item["verdict"] != "not-a-liquid"]
+    possible = [item for item in candidates if item["verdict"] not in ("not-a-liquid", "dissolves")]
     close = sorted((item for item in possible if distance(item) <= window), key=distance)[:limit]
     chosen = {item["name"]: item for item in close}
     for item in candidates[:1] + [c for c in candidates if c["name"] == label_name]:

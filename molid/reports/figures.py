@@ -21,6 +21,7 @@ VERDICT_COLOURS = {
     "excluded": "#b2182b",
     "condenses": "#6f6f6f",
     "not-a-liquid": "#6f6f6f",
+    "dissolves": "#6f6f6f",
 }
 _BAND = "#d9d9d9"
 _MM = 1 / 25.4  # inch per millimetre

@@ -37,7 +37,7 @@ td.R, th.R { text-align: right; font-variant-numeric: tabular-nums; }
 .tablenote { color: #555; font-style: italic; font-size: 7pt; margin: 0 0 2mm 0; }
 .consistent { color: #1b7837; font-weight: bold; } .marginal { color: #c46200; font-weight: bold; }
 .excluded { color: #b2182b; font-weight: bold; }
-.condenses, .not-a-liquid { color: #6f6f6f; font-weight: bold; }
+.condenses, .not-a-liquid, .dissolves { color: #6f6f6f; font-weight: bold; }
 .error { color: #b2182b; font-weight: bold; } .muted { color: #666; }
 figure { margin: 2mm 0; } figure img { width: 100%%; height: auto; }
 figcaption { font-size: 7pt; color: #555; }

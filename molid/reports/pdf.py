@@ -32,6 +32,7 @@ _STYLE_COLOURS = {
     "excluded": (178, 24, 43),
     "condenses": (111, 111, 111),
     "not-a-liquid": (111, 111, 111),
+    "dissolves": (111, 111, 111),
     "error": (178, 24, 43),
     "muted": (100, 100, 100),
 }

@@ -6,20 +6,26 @@ readings are recomputed once for every variant of every classic mistake (each
 variant a change to the student's arithmetic), and each mistake whose result
 agrees with the reported value within its uncertainty is listed.
 
-=================== ========================================================
-code                the student's arithmetic
-=================== ========================================================
-celsius-as-kelvin   the gas temperature in °C put into the gas law as kelvin
-volume-unit         the volume in mL used as litres, or litres used as mL
-pressure-unit       a pressure in one of mmHg (torr), atm, kPa, bar used as
-                    if it were in another
-no-buoyancy         an air-tared bulb or a syringe: the mass of the displaced
-                    air not added to the change of the balance reading
-masses-swapped      tare and filled readings exchanged
-gas-constant-units  R in units that do not fit the pressure and volume used
-                    (L·atm, L·mmHg, L·bar, J and cal values of R mixed up)
-unexplained         disagrees, and no single mistake explains it
-=================== ========================================================
+============================ ===================================================
+code                         the student's arithmetic
+============================ ===================================================
+celsius-as-kelvin            the gas temperature in °C put into the gas law as kelvin
+volume-unit                  the volume in mL used as litres, or litres used as mL
+pressure-unit                a pressure in one of mmHg (torr), atm, kPa, bar used
+                             as if it were in another
+no-buoyancy                  an air-tared bulb or a syringe: the mass of the
+                             displaced air not added to the change of the reading
+masses-swapped               the two readings exchanged
+gas-constant-units           R in units that do not fit the pressure and volume
+                             used (L·atm, L·mmHg, L·bar, J and cal values mixed up)
+room-temperature-for-vapour  a condensed-vapour flask: the room temperature put
+                             into the gas law instead of the bath's
+water-vapour-not-subtracted  gas collected over water: the water's vapour pressure
+                             not subtracted from the pressure
+water-column-ignored         gas collected over water: the raised water column in
+                             the tube not subtracted from the barometric pressure
+unexplained                  disagrees, and no single mistake explains it
+============================ ===================================================
 
 Every variant changes only the student's side of the calculation: the
 displaced-air term, the mass difference, or the T, p, V and R put into
@@ -49,7 +55,7 @@ import numpy as np
 
 from molid.io.units import registry, resolve_unit
 from molid.methods.mistakes import DESCRIPTIONS, MISTAKE_CODES, UNEXPLAINED
-from molid.methods.model import gas_mass, ideal_gas_molar_mass, measurement_model
+from molid.methods.model import gas_mass, ideal_gas_molar_mass, measurement_model, method_readings
 from molid.methods.registry import mistake_applies, select_by_method
 from molid.physics.constants import GAS_CONSTANT, ZERO_CELSIUS
 from molid.uncertainty.propagation import COVERAGE_FACTOR, propagate
@@ -88,6 +94,9 @@ class Variant:
         0 mass as measured, 1 displaced air left out, 2 tare and filled exchanged.
     room_temperature : bool
         The room (balance) temperature is put into the gas law instead of the gas's.
+    water_vapour_kept, water_column_kept : bool
+        Over water: the water vapour's partial pressure, or the water column's
+        pressure, is left in the pressure put into the gas law.
     """
 
     code: str
@@ -98,6 +107,8 @@ class Variant:
     gas_constant_factor: float = 1.0
     mass_mode: int = _MASS_AS_MEASURED
     room_temperature: bool = False
+    water_vapour_kept: bool = False
+    water_column_kept: bool = False
 
 
 def _gas_constants() -> dict:
@@ -166,15 +177,21 @@ def mistake_variants() -> list[Variant]:
                             mass_mode=_MASS_SWAPPED))
     variants.append(Variant("room-temperature-for-vapour", "the room temperature is used for the "
                             "vapour instead of the bath temperature", room_temperature=True))
+    variants.append(Variant("water-vapour-not-subtracted", "the water's vapour pressure is not "
+                            "subtracted from the pressure of the gas collected over water",
+                            water_vapour_kept=True))
+    variants.append(Variant("water-column-ignored", "the water column in the tube is not "
+                            "subtracted from the barometric pressure", water_column_kept=True))
     return variants
 
 
 def mistake_model(
     mass_tare, mass_filled, volume, temperature, pressure, humidity, air_temperature, air_pressure,
-    co2, air_density_formula, water_vapour, student_air_density, student_arithmetic, *,
+    co2, air_density_formula, water_vapour, student_air_density, student_arithmetic,
+    source_before=0.0, source_after=0.0, water_column=0.0, *,
     method_code, wet, air_temperature_given, air_pressure_given,
     temperature_offset, volume_factor, pressure_factor, gas_constant_factor, mass_mode,
-    room_temperature,
+    room_temperature, water_vapour_kept=False, water_column_kept=False,
 ):
     r"""Compute the molar mass a student gets from the readings with a given mistake [kg/mol].
 
@@ -190,6 +207,8 @@ def mistake_model(
     student_arithmetic : array_like
         Relative offset of the student's arithmetic (value 0; carries the rounding
         of constants).
+    source_before, source_after, water_column : array_like
+        The readings of a gas collected over water [kg, kg, m].
     method_code, wet, air_temperature_given, air_pressure_given : array_like
         Flags of :func:`molid.methods.model.measurement_model`.
     temperature_offset, volume_factor, pressure_factor, gas_constant_factor : array_like
@@ -198,6 +217,8 @@ def mistake_model(
         0 as measured, 1 displaced air left out, 2 tare and filled exchanged.
     room_temperature : array_like of bool
         The room temperature put into the gas law instead of the gas's.
+    water_vapour_kept, water_column_kept : array_like of bool
+        Over water: the water vapour's, or the water column's, pressure left in p.
 
     Returns
     -------
@@ -213,23 +234,30 @@ def mistake_model(
     dry-gas pressure.
     """
     correct = measurement_model(
-        mass_tare, mass_filled, volume, temperature, pressure, humidity, air_temperature,
-        air_pressure, co2, air_density_formula, water_vapour, method_code=method_code, wet=wet,
+        mass_tare=mass_tare, mass_filled=mass_filled, volume=volume, temperature=temperature,
+        pressure=pressure, humidity=humidity, air_temperature=air_temperature,
+        air_pressure=air_pressure, co2=co2, air_density_formula=air_density_formula,
+        water_vapour=water_vapour, source_before=source_before, source_after=source_after,
+        water_column=water_column, method_code=method_code, wet=wet,
         air_temperature_given=air_temperature_given, air_pressure_given=air_pressure_given,
     )
     air_density = correct["air_density"] + student_air_density
-    as_measured = gas_mass(mass_tare, mass_filled, volume, air_density, method_code)
+    first, second = method_readings(
+        {"mass_tare": mass_tare, "mass_filled": mass_filled, "source_before": source_before,
+         "source_after": source_after}, method_code)
+    as_measured = gas_mass(first, second, volume, air_density, method_code)
     # a method without a displaced-air term cannot make this mistake; its rows keep the correct mass
     no_buoyancy = select_by_method(method_code, lambda method: (
         method.gas_mass_without_displaced_air or method.gas_mass)(
         mass_tare, mass_filled, volume, air_density))
-    swapped = gas_mass(mass_filled, mass_tare, volume, air_density, method_code)
+    swapped = gas_mass(second, first, volume, air_density, method_code)
     total = np.where(mass_mode == _MASS_SWAPPED, swapped,
                      np.where(mass_mode == _MASS_NO_BUOYANCY, no_buoyancy, as_measured))
     mass = total - correct["water_mass"]
     molar_mass = ideal_gas_molar_mass(
         mass, np.where(room_temperature, air_temperature, temperature - temperature_offset),
-        correct["dry_pressure"] * pressure_factor,
+        (correct["dry_pressure"] + np.where(water_vapour_kept, correct["water_pressure"], 0.0)
+         + np.where(water_column_kept, correct["column_pressure"], 0.0)) * pressure_factor,
         volume * volume_factor,
     ) * gas_constant_factor * (1.0 + student_arithmetic)
     return {**correct, "molar_mass": molar_mass}
@@ -350,11 +378,12 @@ def _variant_values(values, uncertainties, static, variants, usable, arithmetic_
     tiled_u["student_arithmetic"] = np.full(runs * count, arithmetic_tolerance)
     tiled_static = {name: np.tile(np.asarray(item), count) for name, item in static.items()}
     for name in ("temperature_offset", "volume_factor", "pressure_factor", "gas_constant_factor",
-                 "mass_mode", "room_temperature"):
+                 "mass_mode", "room_temperature", "water_vapour_kept", "water_column_kept"):
         tiled_static[name] = np.repeat(np.array([getattr(v, name) for v in variants]), runs)
     # rows that cannot be evaluated get harmless stand-ins, so the arrays stay finite
     safe = np.tile(usable, count)
-    stand_ins = {"air_density_formula": 0.0, "water_vapour": 0.0, "humidity": 0.5, "co2": 0.0004}
+    stand_ins = {"air_density_formula": 0.0, "water_vapour": 0.0, "humidity": 0.5, "co2": 0.0004,
+                 "water_column": 0.0}
     for name in tiled_values:
         tiled_values[name] = np.where(safe, tiled_values[name], stand_ins.get(name, 1.0))
     tiled_values["student_air_density"] = np.zeros(runs * count)

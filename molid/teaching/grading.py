@@ -49,7 +49,8 @@ from molid.uncertainty.propagation import COVERAGE_FACTOR
 __all__ = ["GRADE_COLUMNS", "Grading", "written_resolution", "grade"]
 
 _G = 1e3  # kg/mol -> g/mol
-_READINGS = ("mass_tare", "mass_filled", "volume", "temperature", "pressure")
+_READINGS = ("mass_tare", "mass_filled", "source_before", "source_after", "volume", "temperature",
+             "pressure")
 
 #: Columns of :attr:`Grading.grades`, in order.
 GRADE_COLUMNS = (
@@ -230,7 +231,7 @@ def _rank_among_candidates(block: dict, runs, gases) -> np.ndarray:
     Candidates rank by |z|, a condensing one after every other; a tie goes to
     the earlier library entry, as in the ranking itself.
     """
-    order_key = rank_key(block["z"], block["condenses"], block["not_liquid"])
+    order_key = rank_key(block["z"], block["condenses"], block["unfit"])
     own = order_key[runs, gases][:, None]
     columns = np.arange(order_key.shape[1])[None, :]
     return ((order_key[runs] < own) | ((order_key[runs] == own) & (columns < gases[:, None]))
@@ -444,7 +445,8 @@ def _row_errors(table: RunTable, result: Identification, grade_errors) -> list:
         if no_readings[i]:
             # one plain message instead of one per empty cell
             who = f" ({students[i]})" if has_students else ""
-            reader = [f"row {rows[i]}{who}: no readings (the {', '.join(_READINGS)} cells are "
+            present = [name for name in _READINGS if _column(table, name) is not None]
+            reader = [f"row {rows[i]}{who}: no readings (the {', '.join(present)} cells are "
                       "empty); nothing to grade"]
         messages = reader + grade_errors[i]
         if not result.ok[i] and not result.errors[i]:

@@ -81,8 +81,75 @@ def hand_values(method):
         "masses-swapped": [molar_mass(mass=(tare - filled) * factor + displaced)],
         # no room temperature given: the balance room is taken at the gas's temperature
         "room-temperature-for-vapour": [molar_mass(temperature=T)],
+        # a dry gas in a vessel: no water vapour and no water column to leave in
+        "water-vapour-not-subtracted": [correct],
+        "water-column-ignored": [correct],
     }
     return correct, values
+
+
+#: An invented collection over water: source before and after [g], V [mL], water t [°C],
+#: barometer [kPa], water column [mm].
+OVER_WATER = (15.2034, 15.0712, 55.0, 21.5, 100.90, 40.0)
+
+
+def over_water_hand_values():
+    """Every mistaken molar mass of the over-water run [kg/mol], by code, in plain SI arithmetic.
+
+    Water: saturation pressure from IAPWS-95 (the ``iapws`` package, IAPWS R6-95(2018)),
+    density from IAPWS-95 at the barometric pressure; g_n = 9.80665 m/s² (3rd CGPM, 1901).
+    The collected gas is saturated; the balance-room air is taken at 50 % RH.
+    """
+    from iapws import IAPWS95
+
+    before, after, millilitres, celsius, kilopascal, millimetres = OVER_WATER
+    V, T, p, h = millilitres * 1e-6, celsius + 273.15, kilopascal * 1e3, millimetres * 1e-3
+    rho_air = float(moist_air_density(p, T, 0.5, 0.0004))
+    m = (before - after) * 1e-3 * (1.0 - rho_air / 8000.0)
+    water_pressure = IAPWS95(T=T, x=0).P * 1e6
+    column = IAPWS95(T=T, P=p / 1e6).rho * 9.80665 * h
+    p_dry = p - column - water_pressure
+
+    def molar_mass(mass=m, temperature=T, pressure=p_dry, volume=V):
+        return mass * R * temperature / (pressure * volume)
+
+    correct = molar_mass()
+    return correct, {
+        "celsius-as-kelvin": [molar_mass(temperature=T - 273.15)],
+        "volume-unit": [molar_mass(volume=V * 1000.0), molar_mass(volume=V / 1000.0)],
+        "pressure-unit": [molar_mass(pressure=p_dry / PASCAL_PER[read] * PASCAL_PER[used])
+                          for read, used in itertools.permutations(PASCAL_PER, 2)],
+        "gas-constant-units": [correct * R_SYSTEMS[used][0] / R_SYSTEMS[fits][0]
+                               for fits, used in itertools.permutations(R_SYSTEMS, 2)
+                               if R_SYSTEMS[fits][1] is not None],
+        "masses-swapped": [-correct],
+        "water-vapour-not-subtracted": [molar_mass(pressure=p_dry + water_pressure)],
+        "water-column-ignored": [molar_mass(pressure=p_dry + column)],
+    }
+
+
+def test_over_water_variants_are_the_plain_arithmetic_of_their_mistakes():
+    """Over water, each applicable code's variant values are the hand-computed mistaken values.
+
+    Sources: as for the vessel methods, plus IAPWS-95 for the water (``iapws``
+    package); the tolerance is wider, 2e-5 relative, because molid's water
+    vapour pressure (Wagner and Pruss 2002 auxiliary equation) and water density
+    (Tanaka et al. 2001) differ from IAPWS-95 by up to that much at 21.5 °C.
+    """
+    before, after, millilitres, celsius, kilopascal, millimetres = OVER_WATER
+    cells = {"run": "w1", "expected": "n-butane", "method": "over-water",
+             "source_before [g]": f"{before:.4f}", "source_after [g]": f"{after:.4f}",
+             "volume [mL]": f"{millilitres:.1f}", "temperature [degC]": f"{celsius:.1f}",
+             "pressure [kPa]": f"{kilopascal:.2f}", "water_column [mm]": f"{millimetres:.0f}"}
+    diagnosis = grade(pd.DataFrame([cells])).diagnosis
+    reported = diagnosis.variant_values[:, 0]
+    correct, values = over_water_hand_values()
+    assert reported[0] == pytest.approx(correct, rel=2e-5)
+    assert set(values) == set(METHODS["over-water"].mistakes)
+    for code, expected in values.items():
+        got = [value for variant, value in zip(diagnosis.variants, reported, strict=True)
+               if variant.code == code]
+        np.testing.assert_allclose(sorted(got), sorted(expected), rtol=2e-5, err_msg=code)
 
 
 @pytest.mark.parametrize("method", list(RUNS))
