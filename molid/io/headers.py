@@ -60,7 +60,7 @@ class UncertaintyColumn:
     header : Header
         The column's header.
     inputs : tuple of str
-        The inputs it qualifies: both mass readings for ``u_mass``, else one.
+        The inputs it qualifies: every balance reading for ``u_mass``, else one.
     unit : ColumnUnit
         The unit of its cells: the header's own, else that of the input's column.
     """
@@ -209,7 +209,8 @@ def uncertainty_columns(by_name: dict[str, Header], units: dict[str, ColumnUnit]
         if not header.name.startswith("u_"):
             continue
         target = header.name[2:]
-        inputs = ("mass_tare", "mass_filled") if target == "mass" else (target,)
+        inputs = ("mass_tare", "mass_filled", "source_before", "source_after") if target == "mass" \
+            else (target,)
         if not all(name in UNCERTAIN_INPUTS for name in inputs):
             notes.append(
                 f"column '{header.original}' is not an uncertainty of a measured input and was "
