@@ -19,6 +19,7 @@ ROOT = Path(__file__).resolve().parent
 sys.path.insert(0, str(ROOT.parent / "tests"))
 import simulate  # noqa: E402
 
+from molid.methods import over_water  # noqa: E402
 from molid.methods.vapour_flask import flask_volume_at, simulate_readings  # noqa: E402
 
 R = 8.31446261815324
@@ -295,6 +296,58 @@ def flask_run(rng, fluid, nominal_ml):
     }
 
 
+def lighter_student_molar_mass(cells, mistake=None):
+    """Compute a student's ideal-gas molar mass of a gas collected over water, in g/mol.
+
+    The student converts the barometer (mmHg) to atm, subtracts the water column as mm of
+    mercury (h/13.6) and the water's vapour pressure from the lab's table (to 0.1 mmHg),
+    and uses R in L·atm/(mol·K). ``mistake`` leaves one subtraction out.
+    """
+    mass = float(cells["source_before [g]"]) - float(cells["source_after [g]"])
+    celsius = float(cells["temperature [degC]"])
+    column = float(cells["water_column [mm]"] or 0.0) / 13.6
+    water = round(PropsSI("P", "T", celsius + 273.15, "Q", 0, "Water") / 1e3 / MMHG_IN_KPA, 1)
+    mmhg = float(cells["pressure [mmHg]"])
+    if mistake != "water-vapour-not-subtracted":
+        mmhg -= water
+    if mistake != "water-column-ignored":
+        mmhg -= column
+    return mass * R_LITRE_ATM * (celsius + 273.15) / (mmhg / ATM_IN_MMHG * float(cells["volume [mL]"]) / 1e3)
+
+
+def lighter_run(rng, fluid, column_read=None):
+    """One student's over-water readings as written: gas released from a lighter into a 100 mL tube.
+
+    Analytical balance (0.2 mg per reading, written to 0.1 mg: the loss is only 0.1-0.3 g),
+    tube read to 0.2 mL, thermometer 0.3 K, barometer 0.1 kPa, column read to 2 mm (most
+    students level the tube, a few leave 40-90 mm). The collected gas is
+    the pure gas at its partial pressure, saturated with water (CoolProp densities).
+    """
+    noise = rng.standard_normal(6)
+    volume_read = round(60.0 + 35.0 * rng.random(), 1)
+    water_read, pressure_read = 20.0 + 3.0 * rng.random(), 99.0 + 3.5 * rng.random()
+    if column_read is None:
+        column_read = float(rng.choice([0.0, 0.0, 0.0, round(40 + 50 * rng.random())]))
+    temperature = 273.15 + water_read - 0.3 * noise[0]
+    pressure = 1e3 * (pressure_read - 0.1 * noise[1])
+    column = max(column_read - 2.0 * noise[2], 0.0) * 1e-3
+    volume = (volume_read - 0.2 * noise[3]) * 1e-6
+    partial = float(over_water.dry_gas_pressure(pressure, temperature, column))
+    gas = PropsSI("D", "T", temperature, "P", partial, fluid) * volume
+    glass = 1e-3 * (14.0 + 3.0 * rng.random())
+    before, after = over_water.simulate_readings(gas, simulate.air_density(temperature, pressure, 0.5),
+                                                 volume, glass_mass=glass)
+    return {
+        "source_before [g]": f"{float(before) * 1e3 + 2e-4 * noise[4]:.4f}",
+        "source_after [g]": f"{float(after) * 1e3 + 2e-4 * noise[5]:.4f}",
+        "u_source_before [g]": "0.0002", "u_source_after [g]": "0.0002",
+        "volume [mL]": f"{volume_read:.1f}", "u_volume [mL]": "0.2",
+        "temperature [degC]": f"{water_read:.1f}",
+        "pressure [mmHg]": f"{pressure_read / MMHG_IN_KPA:.1f}",
+        "water_column [mm]": f"{column_read:.0f}",
+    }
+
+
 def flask_section(rng):
     """Write a condensed-vapour flask section and its answer key.
 
@@ -333,10 +386,27 @@ def flask_section(rng):
         rows.append({"run": f"F{number:02d}", "student": name, "section": "CHEM 1410-L3",
                      "sample": sample, "method": "vapour-flask", **run,
                      "reported_molar_mass [g/mol]": f"{reported:#.{digits}g}"})
+    # the same section's second lab day: lighter gas collected over water, two refill brands
+    gases = {"G-1": ("isobutane", "IsoButane"), "G-2": ("n-butane", "n-Butane")}
+    collectors = [
+        ("Adaeze Morrow-Okafor", "G-1", None), ("Bao Tran Whitcombe", "G-2", None),
+        ("Cosima Ferreira-Lund", "G-1", "water-vapour-not-subtracted"),
+        ("Dariusz Penhaligon", "G-2", None), ("Elif Arslanoglu", "G-1", None),
+        ("Femi Castellanos", "G-2", "water-column-ignored"),
+    ]
+    for number, (name, sample, mistake) in enumerate(collectors, start=1):
+        # the student who ignores the column never levelled the tube
+        run = lighter_run(rng, gases[sample][1], 150.0 if mistake == "water-column-ignored" else None)
+        reported = lighter_student_molar_mass(run, mistake)
+        rows.append({"run": f"W{number:02d}", "student": name, "section": "CHEM 1410-L3",
+                     "sample": sample, "method": "over-water", **run,
+                     "reported_molar_mass [g/mol]": f"{reported:#.4g}"})
+    unknowns.update(gases)
     columns = ["run", "student", "section", "sample", "method", "mass_tare [g]", "mass_filled [g]",
-               "u_mass_tare [g]", "u_mass_filled [g]", "volume [mL]", "temperature [degC]",
-               "air_temperature [degC]", "pressure [mmHg]", "humidity [%]",
-               "reported_molar_mass [g/mol]"]
+               "u_mass_tare [g]", "u_mass_filled [g]", "source_before [g]", "source_after [g]",
+               "u_source_before [g]", "u_source_after [g]", "volume [mL]", "u_volume [mL]",
+               "temperature [degC]", "air_temperature [degC]", "pressure [mmHg]", "water_column [mm]",
+               "humidity [%]", "reported_molar_mass [g/mol]"]
     write(ROOT / "flask_section.csv", rows, columns)
     write(ROOT / "flask_key.csv",
           [{"sample": sample, "expected": entry} for sample, (entry, _) in unknowns.items()],
