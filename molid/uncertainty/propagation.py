@@ -31,6 +31,7 @@ __all__ = [
     "propagate",
     "budget_percent",
     "monte_carlo",
+    "monte_carlo_draws",
 ]
 
 #: Coverage factor for an interval of about 95 % (GUM 6.2.2, 6.3.3).
@@ -203,45 +204,91 @@ def budget_percent(contributions: dict) -> dict:
         return {name: np.where(total > 0, 100.0 * s / total, np.nan) for name, s in squares.items()}
 
 
-def monte_carlo(model, values: dict, uncertainties: dict, static: dict | None = None,
-                output: str | None = None, draws: int = 20000, seed: int = 0):
-    """Propagate by Monte Carlo with Gaussian inputs (GUM Supplement 1), one run at a time.
+def monte_carlo_draws(model, values: dict, uncertainties: dict, static: dict | None = None,
+                      output: str | None = None, draws: int = 20000, seed=0) -> np.ndarray:
+    """Draw Gaussian inputs and evaluate the model on them, for every run at once (GUM Supplement 1).
 
     Parameters
     ----------
     model : callable
         Vectorised model; see :func:`complex_step_jacobian`.
-    values, uncertainties : dict of float
-        Input values and standard uncertainties of one run.
+    values, uncertainties : dict of float or array_like
+        Input values and standard uncertainties, each a scalar or of shape (n,) for n runs.
     static : dict, optional
-        Further keyword arguments (scalars).
+        Further keyword arguments (flags, codes), each a scalar or of shape (n,).
     output : str, optional
         Output key when the model returns a dict.
     draws : int
-        Number of Monte Carlo trials (JCGM 101:2008, 7.2, recommends 10⁶ for a
-        two-digit interval; fewer suffice for a check).
-    seed : int
+        Number of Monte Carlo trials M per run.
+    seed : int or numpy.random.Generator
+        Random seed, for reproducible output, or a generator to continue from.
+
+    Returns
+    -------
+    numpy.ndarray
+        The model's output for each trial, shape (draws,) or (draws, n).
+
+    Notes
+    -----
+    Each input is assigned a Gaussian PDF with its estimate and standard
+    uncertainty (JCGM 101:2008, 6.4.7); the inputs are independent. The draws of
+    one input come from one call of the generator, in the order of ``values``.
+
+    References
+    ----------
+    JCGM 101:2008 (GUM Supplement 1), 6.4.7 and 7.3-7.5.
+    """
+    rng = np.random.default_rng(seed)
+    base = {name: np.asarray(values[name], dtype=float) for name in values}
+    shape = (draws,) + np.broadcast(*base.values()).shape
+    samples = {
+        name: base[name] + np.asarray(uncertainties[name], dtype=float) * rng.standard_normal(shape)
+        for name in values
+    }
+    static = {key: np.broadcast_to(np.asarray(item), shape) for key, item in (static or {}).items()}
+    with np.errstate(all="ignore"):
+        result = model(**samples, **static)
+    if isinstance(result, dict):
+        result = result[output]
+    return np.asarray(result, dtype=float)
+
+
+def monte_carlo(model, values: dict, uncertainties: dict, static: dict | None = None,
+                output: str | None = None, draws: int = 20000, seed=0):
+    """Propagate by Monte Carlo with Gaussian inputs (GUM Supplement 1), for one run or many.
+
+    Parameters
+    ----------
+    model : callable
+        Vectorised model; see :func:`complex_step_jacobian`.
+    values, uncertainties : dict of float or array_like
+        Input values and standard uncertainties: scalars for one run, or arrays of
+        shape (n,) for n runs drawn at once.
+    static : dict, optional
+        Further keyword arguments (scalars, or arrays of shape (n,)).
+    output : str, optional
+        Output key when the model returns a dict.
+    draws : int
+        Number of Monte Carlo trials (JCGM 101:2008, 7.2.2: large compared with
+        1/(1 − p), for example 10⁴/(1 − p) = 2·10⁵ for a 95 % interval; fewer
+        suffice for a check).
+    seed : int or numpy.random.Generator
         Random seed, for reproducible output.
 
     Returns
     -------
-    mean, standard_deviation, low, high : float
+    mean, standard_deviation, low, high : float or numpy.ndarray
         The output's mean, standard deviation and the probabilistically symmetric
-        95 % coverage interval (2.5 and 97.5 percentiles).
+        95 % coverage interval (2.5 and 97.5 percentiles, JCGM 101:2008, 7.7.1):
+        floats for scalar inputs, arrays of shape (n,) otherwise.
 
     References
     ----------
     JCGM 101:2008 (GUM Supplement 1), 7.
     """
-    rng = np.random.default_rng(seed)
-    samples = {
-        name: float(values[name]) + float(uncertainties[name]) * rng.standard_normal(draws)
-        for name in values
-    }
-    static = {key: np.full(draws, item) for key, item in (static or {}).items()}
-    result = model(**samples, **static)
-    if isinstance(result, dict):
-        result = result[output]
-    result = np.asarray(result, dtype=float)
-    low, high = np.percentile(result, [2.5, 97.5])
-    return float(result.mean()), float(result.std(ddof=1)), float(low), float(high)
+    result = monte_carlo_draws(model, values, uncertainties, static, output, draws, seed)
+    low, high = np.percentile(result, [2.5, 97.5], axis=0)
+    mean, deviation = result.mean(axis=0), result.std(axis=0, ddof=1)
+    if result.ndim == 1:
+        return float(mean), float(deviation), float(low), float(high)
+    return mean, deviation, low, high
