@@ -12,6 +12,7 @@ a file (``molid --help``) do not pay for it.
 from __future__ import annotations
 
 import functools
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -52,10 +53,10 @@ SI_UNITS = {
 #: Examples of accepted units, quoted in error messages.
 ACCEPTED_UNITS = {
     "mass": "g, mg, kg",
-    "volume": "mL, L, cm^3, m^3",
-    "temperature": "degC, K, degF",
-    "pressure": "kPa, Pa, hPa, mbar, bar, atm, mmHg, torr, inHg, psi",
-    "fraction": "% (percent) or 1 (a plain fraction)",
+    "volume": "mL (ml), L (l), cm³ (cm3, cc), dm³, m³",
+    "temperature": "°C (degC, C), K, °F (degF, F)",
+    "pressure": "kPa, Pa, hPa, mbar, bar, atm, mmHg, Torr, inHg, psi (psia)",
+    "fraction": "% (percent, % RH, %RH) or 1 (a plain fraction)",
     "molar_mass": "g/mol, kg/mol",
     "length": "mm, cm, m, in",
 }
@@ -69,6 +70,36 @@ _DIMENSIONS = {
     "molar_mass": "[mass] / [substance]",
     "length": "[length]",
 }
+
+
+#: Unit symbols as labs write them, matched exactly (case matters: mg is not Mg, mL is not ML),
+#: and the name pint knows them by.
+_SYMBOLS = {
+    "°C": "degC", "ºC": "degC", "C": "degC", "°F": "degF", "ºF": "degF", "F": "degF", "°K": "K",
+    "mL": "mL", "ml": "mL", "L": "L", "l": "L", "cc": "cm**3", "%": "percent",
+    "1": "dimensionless", "-": "dimensionless",
+}
+#: Words and symbols read whatever their case: no other unit is spelled the same in another
+#: case (keys in lower case, spaces and dots removed). A pressure in psia is absolute, as the
+#: reader expects; a gauge reading (psig) is not accepted.
+_WORDS = {
+    "torr": "torr", "mmhg": "mmHg", "inhg": "inHg", "psi": "psi", "psia": "psi", "atm": "atm",
+    "c": "degC", "degc": "degC", "celsius": "degC", "f": "degF", "degf": "degF",
+    "fahrenheit": "degF", "kelvin": "K", "percent": "percent", "pct": "percent", "%rh": "percent",
+    "percentrh": "percent", "fraction": "dimensionless",
+}
+
+
+def _pint_name(text: str) -> str:
+    """Spell a unit as written in a header the way pint reads it (``Torr``: ``torr``; ``cm3``: ``cm**3``)."""
+    if text in _SYMBOLS:
+        return _SYMBOLS[text]
+    word = re.sub(r"[\s.]+", "", text).lower()
+    if word in _WORDS:
+        return _WORDS[word]
+    text = text.replace("°", "deg").replace("³", "**3").replace("²", "**2").replace("^", "**")
+    # A power written as a bare digit after a letter: cm3, dm3, m3.
+    return re.sub(r"(?<=[A-Za-z])([23])\b", r"**\1", text)
 
 
 class UnitProblem(ValueError):
@@ -128,15 +159,7 @@ def resolve_unit(kind: str, text: str | None) -> ColumnUnit:
         When pint does not know the unit or it is not of the column's kind.
     """
     text = (text or "").strip() or DEFAULT_UNITS[kind]
-    normalized = text.replace("°", "deg").replace("³", "**3").replace("^", "**")
-    if normalized.lower() in {"c", "degc", "celsius", "deg c"}:
-        normalized = "degC"
-    elif normalized.lower() in {"f", "degf", "fahrenheit", "deg f"}:
-        normalized = "degF"
-    elif normalized.lower() in {"%", "pct", "%rh", "percent rh"}:
-        normalized = "percent"
-    elif normalized.lower() in {"1", "fraction", "-"}:
-        normalized = "dimensionless"
+    normalized = _pint_name(text)
     ureg = registry()
     try:
         unit = ureg.Unit(normalized)
