@@ -96,6 +96,63 @@ class Identification:
         """Expanded uncertainty, k = 2 [kg/mol]."""
         return COVERAGE_FACTOR * self.u
 
+    # -- notebook views (see molid.pipeline.frames, .correlations, .monte_carlo) ------------
+    def to_frame(self) -> pd.DataFrame:
+        """One row per run, molar masses in g/mol (see :func:`molid.pipeline.frames.run_frame`)."""
+        from molid.pipeline.frames import run_frame
+
+        return run_frame(self)
+
+    def inputs_frame(self) -> pd.DataFrame:
+        """Give the user's cells as written, indexed like :meth:`to_frame`."""
+        from molid.pipeline.frames import inputs_frame
+
+        return inputs_frame(self)
+
+    def samples_frame(self) -> pd.DataFrame:
+        """One row per sample (see :func:`molid.pipeline.frames.samples_frame`)."""
+        from molid.pipeline.frames import samples_frame
+
+        return samples_frame(self)
+
+    def candidates_frame(self, sample=None, top: int | None = None) -> pd.DataFrame:
+        """Ranked candidates of a sample, or of all samples and runs (see :mod:`molid.pipeline.frames`)."""
+        from molid.pipeline.frames import candidates_frame
+
+        return candidates_frame(self, sample, top)
+
+    def as_ufloats(self, level: str = "runs"):
+        """Molar masses [g/mol] as correlated ``uncertainties`` numbers (JCGM 100:2008, 5.2.2).
+
+        Parameters
+        ----------
+        level : {"runs", "samples", "both"}
+            The analysed runs (by run id), the samples (by sample id), or both as a
+            pair built on the same variables; see :mod:`molid.pipeline.correlations`.
+        """
+        from molid.pipeline.correlations import run_ufloats, sample_ufloats
+
+        if level not in ("runs", "samples", "both"):
+            raise ValueError(f"level must be 'runs', 'samples' or 'both', not {level!r}")
+        runs = run_ufloats(self)
+        if level == "runs":
+            return runs
+        samples = sample_ufloats(self, runs)
+        return samples if level == "samples" else (runs, samples)
+
+    def monte_carlo(self, draws: int = 200_000, seed: int = 0):
+        """Check each run's linear 95 % interval by Monte Carlo (JCGM 101:2008; see :mod:`.monte_carlo`)."""
+        from molid.pipeline.monte_carlo import check_runs
+
+        # The profile only sets uncertainties; check_runs takes the propagation's instead.
+        values, _, static = model_inputs(self.table, load_profile())
+        return check_runs(self, values, static, draws, seed)
+
+    def _repr_html_(self) -> str:
+        from molid.pipeline.frames import html_summary
+
+        return html_summary(self)
+
 
 def _model_values(table: RunTable) -> dict:
     """Values of every model input; the two relative corrections have value 0."""
