@@ -7,7 +7,8 @@ as a whole (unreadable, no data rows, a required column missing, a unit pint doe
 not know) raises :class:`InputError`.
 
 Rows are numbered as a spreadsheet numbers them: the header is row 1 and the
-first data row is row 2.
+first data row is row 2, unless title rows stand above the header (see
+:mod:`molid.io.header_row`); then every row keeps its own spreadsheet number.
 """
 
 from __future__ import annotations
@@ -39,7 +40,21 @@ from molid.io.checks import (
     inputs_in_use,
 )
 from molid.io.defaults import fill_defaults
-from molid.io.headers import measured_units, parse_header, resolve_headers, uncertainty_columns
+from molid.io.header_row import (
+    choose_sheet,
+    find_header_line,
+    frame_below_header,
+    header_index,
+    sheet_note,
+    title_note,
+)
+from molid.io.headers import (
+    HEADER_SEARCH_ROWS,
+    measured_units,
+    parse_header,
+    resolve_headers,
+    uncertainty_columns,
+)
 from molid.io.problems import InputError, RowProblems
 from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.vessel_column import load_vessels, look_up_vessels, share_vessel_volumes, vessel_rows
@@ -193,19 +208,27 @@ def sniff_separator(text: str) -> str:
     return ","
 
 
-def read_raw(source) -> tuple[pd.DataFrame, bool, list, str]:
-    """Read a run file into a table of text cells.
+def read_raw(source, *, sheet=None, find_sheet: bool = False) -> tuple[pd.DataFrame, bool, list, str]:
+    """Read a run file into a table of text cells, from its header row down.
 
     Parameters
     ----------
     source : str, pathlib.Path, file-like or pandas.DataFrame
         A path to a .csv/.txt/.xlsx file, ``"-"`` for standard input, an open
-        binary or text file, or a DataFrame already in memory.
+        binary or text file, or a DataFrame already in memory (one that read_raw
+        returned keeps its header row, notes and name).
+    sheet : str or int, optional
+        For a workbook: the sheet's name, or its position counting from 1; by default the first.
+    find_sheet : bool
+        For a run file: when no sheet is named and the first has no header row naming the
+        required columns, read the only other sheet that has one (with a note). Other
+        files (answer keys, water fills) keep to the first sheet.
 
     Returns
     -------
     raw : pandas.DataFrame
-        All cells as strings, blank cells as "".
+        All cells as strings, blank cells as "". ``attrs["header_row"]`` is the
+        header's spreadsheet row (rows above it were titles).
     decimal_comma : bool
         True when numbers may use a decimal comma (semicolon- or tab-separated text).
     notes : list of str
@@ -216,22 +239,31 @@ def read_raw(source) -> tuple[pd.DataFrame, bool, list, str]:
     Raises
     ------
     InputError
-        When the file cannot be read or holds no header.
+        When the file cannot be read or holds no header, or the sheet asked for is not there.
     """
     notes: list = []
     if isinstance(source, pd.DataFrame):
         raw = source.copy()
         raw.columns = [str(column) for column in raw.columns]
         raw = raw.astype(object).where(raw.notna(), "").astype(str)
-        return raw, False, notes, "data frame"
+        attrs = source.attrs
+        return (raw, bool(attrs.get("decimal_comma", False)), list(attrs.get("notes", [])),
+                attrs.get("source", "data frame"))
     data, name = _read_bytes(source)
     if not data.strip():
         raise InputError(f"{name}: the file is empty; expected a header row and data rows")
     if data[:4] == b"PK\x03\x04":  # a zip archive: an .xlsx workbook
-        return _read_workbook(data, name), False, notes, name
-    text = _decode(data, notes)
-    separator = sniff_separator(text)
-    return _read_csv(text, separator, name), separator in (";", "\t"), notes, name
+        raw, decimal_comma = _read_workbook(data, name, sheet, notes, find_sheet), False
+    else:
+        if sheet is not None:
+            raise InputError(f"{name}: sheet '{sheet}' asked for, but the file is text (CSV), "
+                             "not an .xlsx workbook")
+        text = _decode(data, notes)
+        raw, separator = _read_text(text, name, notes)
+        decimal_comma = separator in (";", "\t")
+    # what a later read_raw of this frame needs to read it the same way
+    raw.attrs.update(source=name, notes=list(notes), decimal_comma=decimal_comma)
+    return raw, decimal_comma, notes, name
 
 
 def _read_bytes(source) -> tuple[bytes, str]:
@@ -256,15 +288,48 @@ def _read_bytes(source) -> tuple[bytes, str]:
     return data, name
 
 
-def _read_workbook(data: bytes, name: str) -> pd.DataFrame:
-    """Read the first sheet of an .xlsx workbook as text cells."""
+def _read_workbook(data: bytes, name: str, sheet, notes: list, find_sheet: bool) -> pd.DataFrame:
+    """Read a workbook's sheet as text cells under its header row (see :func:`read_raw` for ``sheet``)."""
     try:
-        raw = pd.read_excel(io.BytesIO(data), dtype=str, header=0)
+        book = pd.ExcelFile(io.BytesIO(data))
+        names = [str(each) for each in book.sheet_names]
+        chosen = choose_sheet(names, sheet, name) if sheet is not None else names[0]
+        cells = _sheet_cells(book, chosen)
+        if find_sheet and sheet is None and len(names) > 1 and header_index(cells) is None:
+            with_header = [other for other in names[1:]
+                           if header_index(_sheet_cells(book, other, rows=True)) is not None]
+            if len(with_header) == 1:
+                chosen = with_header[0]
+                cells = _sheet_cells(book, chosen)
+                notes.append(sheet_note(chosen, names[0]))
+    except InputError:
+        raise
     except Exception as error:  # openpyxl raises many kinds for damaged files
         raise InputError(f"{name}: cannot read it as an .xlsx workbook ({error})") from None
-    raw = raw.fillna("")
-    raw.columns = [str(column) for column in raw.columns]
+    raw = frame_below_header(cells, notes)
+    raw.attrs["sheet"] = chosen
     return raw
+
+
+def _sheet_cells(book, sheet: str, rows: bool = False) -> pd.DataFrame:
+    """Read a sheet's cells as text, "" where blank, without a header (with ``rows``, the search rows)."""
+    cells = book.parse(sheet, header=None, dtype=str, nrows=HEADER_SEARCH_ROWS if rows else None)
+    return cells.fillna("")
+
+
+def _read_text(text: str, name: str, notes: list) -> tuple[pd.DataFrame, str]:
+    """Read delimited text from its header line down; the separator is the one that splits the header."""
+    found = find_header_line(text)
+    if found is None:  # no recognisable header: the first line is the header, as written
+        separator = sniff_separator(text)
+        raw = _read_csv(text, separator, name)
+        raw.attrs["header_row"] = 1
+        return raw, separator
+    if found.index:
+        notes.append(title_note(found.index + 1, found.titles))
+    raw = _read_csv(text[found.offset:], found.separator, name)
+    raw.attrs["header_row"] = found.index + 1
+    return raw, found.separator
 
 
 def _read_csv(text: str, separator: str, name: str) -> pd.DataFrame:
@@ -320,7 +385,7 @@ def parse_runs(
     profile : InstrumentProfile, optional
         Default uncertainties; the built-in default profile when None.
     first_row : int
-        Spreadsheet row number of the first row of ``raw`` (2 for a whole file).
+        Spreadsheet row of the first row of ``raw``: 2 below a header in row 1, else ``header_row + 1``.
     seen_runs : RunIds, optional
         Run ids already met in earlier chunks of the same file, updated in place,
         so duplicate ids are found across chunks.
@@ -350,7 +415,7 @@ def parse_runs(
     profile = profile or load_profile()
     register = load_vessels(vessels)
     notes = list(notes or [])
-    by_name = resolve_headers(raw.columns, source)
+    by_name = resolve_headers(raw.columns, source, notes)
     blank = blank_rows(raw)
     row_numbers = np.arange(first_row, first_row + len(raw))[~blank]
     raw = raw.loc[~blank].reset_index(drop=True)
@@ -401,7 +466,7 @@ def _measured_values(raw, by_name, units, decimal_comma, profile, register, prob
 
 
 def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None,
-              vessels=None) -> RunTable:
+              vessels=None, sheet=None) -> RunTable:
     """Read and validate a run file (CSV, .xlsx, ``-`` for stdin, or a DataFrame).
 
     Parameters
@@ -413,6 +478,8 @@ def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None,
     vessels : VesselRegister or path, optional
         Vessel register (see :mod:`molid.io.vessel_register`): runs may name a
         ``vessel`` instead of giving a ``volume``.
+    sheet : str or int, optional
+        For a workbook: the sheet's name, or its position counting from 1 (see :func:`read_raw`).
 
     Returns
     -------
@@ -426,6 +493,6 @@ def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None,
     """
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
-    raw, decimal_comma, notes, name = read_raw(source)
+    raw, decimal_comma, notes, name = read_raw(source, sheet=sheet, find_sheet=True)
     return parse_runs(raw, decimal_comma=decimal_comma, profile=profile, notes=notes, source=name,
-                      vessels=vessels)
+                      vessels=vessels, first_row=int(raw.attrs.get("header_row", 1)) + 1)

@@ -21,6 +21,7 @@ from pathlib import Path
 
 import pandas as pd
 
+from molid.io.header_row import find_header_line, title_note
 from molid.io.problems import InputError
 from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.reading import RunIds, first_uses, parse_runs, sniff_separator
@@ -161,10 +162,11 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
 
 @dataclass
 class _ChunkPlan:
-    """How to read a run file in chunks: its encoding, separator and chunk size.
+    """How to read a run file in chunks: its encoding, separator, header row and chunk size.
 
     ``notes`` collects the file's notes in the order they are first met (a dict
     used as an ordered set): the encoding note first, then each chunk's.
+    ``header_row`` is the header's line (counting from 1): lines above it are titles.
     """
 
     path: Path
@@ -172,6 +174,7 @@ class _ChunkPlan:
     separator: str
     chunk_rows: int
     notes: dict
+    header_row: int = 1
 
     @property
     def decimal_comma(self) -> bool:
@@ -182,7 +185,8 @@ class _ChunkPlan:
         """Open the file as an iterator of DataFrame chunks of text cells."""
         return pd.read_csv(self.path, sep=self.separator, dtype=str, keep_default_na=False,
                            skip_blank_lines=False, skipinitialspace=True,
-                           encoding=self.encoding, chunksize=self.chunk_rows)
+                           encoding=self.encoding, chunksize=self.chunk_rows,
+                           skiprows=self.header_row - 1)
 
 
 def _plan_chunks(path, chunk_rows) -> _ChunkPlan:
@@ -200,8 +204,13 @@ def _plan_chunks(path, chunk_rows) -> _ChunkPlan:
     notes: dict = {}
     if encoding == "cp1252":
         notes["the file is not valid UTF-8; it was read as Windows-1252"] = None
-    separator = sniff_separator(head.decode(encoding, errors="replace"))
-    return _ChunkPlan(path, encoding, separator, chunk_rows, notes)
+    text = head.decode(encoding, errors="replace")
+    found = find_header_line(text)  # the same header row the in-memory reader finds
+    if found is None:
+        return _ChunkPlan(path, encoding, sniff_separator(text), chunk_rows, notes)
+    if found.index:
+        notes[title_note(found.index + 1, found.titles)] = None
+    return _ChunkPlan(path, encoding, found.separator, chunk_rows, notes, found.index + 1)
 
 
 def _chunk_jobs(plan, reader):
@@ -212,7 +221,7 @@ def _chunk_jobs(plan, reader):
     used; :class:`~molid.io.reading.RunIds` keeps about 24 bytes per id seen.
     """
     seen = RunIds()
-    first_row = 2  # the header is row 1
+    first_row = plan.header_row + 1  # rows keep their spreadsheet numbers below any title lines
     for raw in reader:
         raw.columns = [str(column) for column in raw.columns]
         first_use = first_uses(raw, seen, first_row)
