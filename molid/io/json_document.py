@@ -16,7 +16,7 @@ from molid.candidates.hazards import hazard_summary, pressure_unit_texts
 from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
-__all__ = ["molar_mass_block", "to_document", "to_json"]
+__all__ = ["molar_mass_block", "monte_carlo_block", "to_document", "to_json"]
 
 _G = 1e3  # kg/mol → g/mol
 
@@ -155,7 +155,22 @@ def _sample_entries(result, top, context) -> list:
     return samples
 
 
-def to_document(result, top: int | None = None) -> dict:
+def monte_carlo_block(check, index):
+    """Build a run's ``monte_carlo`` object from a Monte Carlo check, None where the run has no result.
+
+    Keys: ``N`` (trials), ``seed``, ``low`` and ``high`` (the probabilistically
+    symmetric 95 % interval, g/mol) and ``agrees_with_linear`` (both ends within the
+    tolerance δ of JCGM 101:2008, 8.1, of the linear 95 % ends; null where the ends
+    are too noisy at this N to tell).
+    """
+    if not check.analysed[index]:
+        return None
+    return {"N": int(check.draws), "seed": int(check.seed), "low": _float(check.low[index] * _G),
+            "high": _float(check.high[index] * _G),
+            "agrees_with_linear": bool(check.agrees[index]) if check.decided[index] else None}
+
+
+def to_document(result, top: int | None = None, monte_carlo=None) -> dict:
     """Build the JSON document of an identification, as Python objects.
 
     Parameters
@@ -164,6 +179,9 @@ def to_document(result, top: int | None = None) -> dict:
         From :func:`molid.pipeline.identify.identify`.
     top : int, optional
         Limit each candidate list to this many (all candidates when None).
+    monte_carlo : MonteCarloCheck, optional
+        From :func:`molid.pipeline.monte_carlo.check_runs`: adds a ``monte_carlo`` key
+        to each run (see :func:`monte_carlo_block`).
 
     Returns
     -------
@@ -172,10 +190,14 @@ def to_document(result, top: int | None = None) -> dict:
     """
     context = _safety_context(result)
     runs = [_run_entry(result, index, top, context) for index in range(len(result.table))]
+    if monte_carlo is not None:
+        for index, entry in enumerate(runs):
+            entry["monte_carlo"] = monte_carlo_block(monte_carlo, index)
     samples = _sample_entries(result, top, context)
     return {"molid": __version__, "notes": list(result.notes), "results": runs, "samples": samples}
 
 
-def to_json(result, top: int | None = None) -> str:
+def to_json(result, top: int | None = None, monte_carlo=None) -> str:
     """Return the JSON document as text (deterministic: same input, same bytes)."""
-    return json.dumps(to_document(result, top), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    document = to_document(result, top, monte_carlo)
+    return json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n"

@@ -67,8 +67,12 @@ def _top_candidates(ranking, n_rows, places):
     return names, verdict, z_out
 
 
-def csv_frame(result) -> pd.DataFrame:
-    """Build the per-run CSV as a DataFrame: the user's cells, then the results."""
+def csv_frame(result, monte_carlo=None) -> pd.DataFrame:
+    """Build the per-run CSV as a DataFrame: the user's cells, then the results.
+
+    With ``monte_carlo`` (a :class:`~molid.pipeline.monte_carlo.MonteCarloCheck`), the
+    columns of :func:`_monte_carlo_columns` come last.
+    """
     table = result.table
     n = len(table)
     user_columns = list(table.raw.columns)
@@ -109,6 +113,9 @@ def csv_frame(result) -> pd.DataFrame:
             columns[f"candidate_{place + 1}_verdict"] = verdict[:, place]
             columns[f"candidate_{place + 1}_z"] = z[:, place]
         columns["label_verdict"] = _label_verdicts(result.ranking, n)
+    if monte_carlo is not None:
+        for name, item in _monte_carlo_columns(monte_carlo).items():
+            columns[f"molid_{name}" if name in user_columns else name] = item
     columns = {key: (item.to_numpy() if isinstance(item, pd.Series) and item.dtype != "str"
                      and not isinstance(item.dtype, pd.Int64Dtype) else item)
                for key, item in columns.items()}
@@ -142,14 +149,36 @@ def _label_verdicts(ranking, n_rows):
     return out
 
 
-def to_csv(result, header: bool = True) -> str:
+def _monte_carlo_columns(check) -> dict:
+    """Monte Carlo columns: trials, seed, the 95 % interval [g/mol] and whether it agrees with the linear one.
+
+    Empty cells for runs without a result; ``monte_carlo_agrees_with_linear`` is
+    ``yes`` when both ends lie within the tolerance δ of JCGM 101:2008, 8.1, ``no`` when
+    not, ``undecided`` when the ends are too noisy at this number of draws to tell.
+    """
+    analysed = check.analysed
+
+    def whole(number):
+        return pd.Series(np.full(len(analysed), number), dtype="Int64").where(analysed, pd.NA)
+
+    return {
+        "monte_carlo_draws": whole(check.draws),
+        "monte_carlo_seed": whole(check.seed),
+        "monte_carlo_low_g_mol": check.low * _G,
+        "monte_carlo_high_g_mol": check.high * _G,
+        "monte_carlo_agrees_with_linear": np.where(
+            analysed, np.where(check.decided, np.where(check.agrees, "yes", "no"), "undecided"), ""),
+    }
+
+
+def to_csv(result, header: bool = True, monte_carlo=None) -> str:
     """Return the per-run CSV as text (text cells quoted, numbers bare, RFC 4180)."""
     import io
 
     import pyarrow as pa
     import pyarrow.csv as pa_csv
 
-    frame = csv_frame(result)
+    frame = csv_frame(result, monte_carlo)
     for column in frame.columns:
         if frame[column].dtype == object:
             frame[column] = frame[column].astype("string")

@@ -14,6 +14,7 @@ from molid.candidates.hazards import hazard_line
 from molid.candidates.verdicts import LABEL_MEANINGS
 from molid.io.json_document import to_document
 from molid.uncertainty.propagation import COVERAGE_FACTOR
+from molid.uncertainty.validation import SUGGESTED_DRAWS
 
 __all__ = ["format_value", "to_table"]
 
@@ -115,10 +116,50 @@ def _section(title, body) -> list:
     return ["", title, "-" * len(title), *body]
 
 
-def to_table(result, top: int = 5) -> str:
-    """Format a plain-text report for a terminal."""
+def _monte_carlo_lines(lines, check) -> list:
+    """Add a line under each run whose Monte Carlo interval differs, and a summary after the runs."""
+    flagged = check.flagged
+    out = list(lines[:2])
+    for index, line in enumerate(lines[2:]):
+        out.append(line)
+        if flagged[index]:
+            tolerance = check.tolerance[index] * _G
+            # the tolerance to its one digit: δ = 0.05 gives two decimals
+            places = max(0, 1 - math.floor(math.log10(2 * tolerance)))
+            low, high = check.low[index] * _G, check.high[index] * _G
+            linear_low, linear_high = check.linear_low[index] * _G, check.linear_high[index] * _G
+            out.append(
+                f"{'':<12} Monte Carlo 95 %: {low:.{places}f} to {high:.{places}f} g/mol; linear "
+                f"{linear_low:.{places}f} to {linear_high:.{places}f} (ends differ by "
+                f"{abs(low - linear_low):.{places}f} and {abs(high - linear_high):.{places}f}, "
+                f"tolerance {tolerance:.{places}f})")
+    analysed, differ = int(check.analysed.sum()), int(flagged.sum())
+    head = f"Monte Carlo check (GUM Supplement 1, {check.draws:,} draws per run, seed {check.seed}): "
+    agree = int((check.analysed & check.agrees).sum())
+    verdict = (f"the 95 % intervals of {agree} of {analysed} analysed runs agree with the linear "
+               "ones (M ± 1.96u) within the tolerance of JCGM 101 8.1" if not differ else
+               f"{differ} of {analysed} analysed runs have a 95 % interval that differs from the "
+               "linear one (M ± 1.96u) beyond the tolerance of JCGM 101 8.1 (marked above)")
+    undecided = int(check.undecided.sum())
+    if undecided:
+        verdict += (f"; {undecided} undecided: their Monte Carlo ends are too noisy at this number "
+                    "of draws (JCGM 101 7.9); give more")
+    elif check.draws < SUGGESTED_DRAWS:
+        verdict += f" (fewer draws than the {SUGGESTED_DRAWS:,} JCGM 101 7.2.2 suggests)"
+    return out + ["", head + verdict]
+
+
+def to_table(result, top: int = 5, monte_carlo=None) -> str:
+    """Format a plain-text report for a terminal.
+
+    With ``monte_carlo`` (a :class:`~molid.pipeline.monte_carlo.MonteCarloCheck`), a
+    line under each run whose Monte Carlo interval differs from the linear one, and
+    a one-line summary after the runs.
+    """
     table = result.table
     lines = _run_lines(result, top)
+    if monte_carlo is not None:
+        lines = _monte_carlo_lines(lines, monte_carlo)
     if result.sample_runs:  # the JSON document combines the replicates; build it only then
         lines += _section("Samples (replicates combined)", [
             line for entry in to_document(result, top)["samples"]
