@@ -27,7 +27,7 @@ from molid.candidates.hazards import (
     unidentified_text,
 )
 from molid.candidates.vapour_pressures import saturation_pressure
-from molid.candidates.verdicts import LABEL_MEANINGS
+from molid.candidates.verdicts import LABEL_MEANINGS, UNFIT_VERDICTS
 from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import METHODS
 from molid.uncertainty.propagation import COVERAGE_FACTOR
@@ -480,12 +480,28 @@ def _inputs_table(result, positions, run_labels, notes=()) -> Table:
         styles.append(["muted"] * len(row))
     note = ("Readings as entered, in the file's units; u (std.) is the standard uncertainty "
             "of each reading; U is the expanded uncertainty, k = 2 (about 95 %).")
+    note += _over_water_pressures(result, positions, run_labels)
     if notes:
         note += " " + " ".join(item[0].upper() + item[1:] + ("" if item.endswith(".") else ".")
                                for item in notes)
     return Table("Inputs and per-run results", columns, rows, widths,
                  "L" + ("L" if show_method else "") + "R" * (len(columns) - 1 - show_method),
                  styles if any(styles) else None, note)
+
+
+def _over_water_pressures(result, positions, run_labels, shown=4) -> str:
+    """Say, for runs collected over water, how the barometer became the gas's own pressure."""
+    methods = result.table.text["method"].to_numpy(dtype=object)
+    rows = [p for p in positions if methods[p] == "over-water" and not result.errors[p]]
+    if not rows:
+        return ""
+    extras = result.propagation.extras
+    parts = [f"{run_labels[p]}: {result.table.values['pressure'][p] / 1e3:.2f} − "
+             f"{extras['column_pressure'][p] / 1e3:.2f} − {extras['water_pressure'][p] / 1e3:.2f} = "
+             f"{extras['dry_pressure'][p] / 1e3:.2f} kPa" for p in rows[:shown]]
+    more = f" (and {len(rows) - shown} more runs)" if len(rows) > shown else ""
+    return (" Over water, the gas's own pressure is the barometer less the water column and the "
+            "water's vapour pressure: " + "; ".join(parts) + more + ".")
 
 
 def _budget_rows(result, positions):
@@ -649,7 +665,7 @@ def _nearby(candidates, value, expanded, label_name, limit=6):
         own = value if own is None else own
         return min(abs(item["molar_mass"] - value), abs(item["molar_mass"] - own))
 
-    possible = [item for item in candidates if item["verdict"] not in ("not-a-liquid", "dissolves")]
+    possible = [item for item in candidates if item["verdict"] not in UNFIT_VERDICTS]
     close = sorted((item for item in possible if distance(item) <= window), key=distance)[:limit]
     chosen = {item["name"]: item for item in close}
     for item in candidates[:1] + [c for c in candidates if c["name"] == label_name]:
