@@ -200,6 +200,9 @@ def check_runs(result, values: dict, static: dict, draws: int, seed: int = 0) ->
     ends = np.full((4, count), np.nan)  # low, high and their noise
     if len(index):
         uncertainties = result.propagation.uncertainties
+        # An input the propagation did not differentiate has no uncertainty: it is passed as is.
+        static = {**static, **{name: item for name, item in values.items() if name not in uncertainties}}
+        values = {name: item for name, item in values.items() if name in uncertainties}
         rng = np.random.default_rng(seed)
         tail = 100.0 * (1.0 - COVERAGE_PROBABILITY) / 2.0
         per_block = max(1, _BLOCK // draws)

@@ -66,6 +66,9 @@ def _monte_carlo(result, profile, groups, rng):
     count = len(result.table)
     drawn = {}
     for name in values:
+        if name not in u:  # no uncertainty in any run: the model takes the value as it is
+            drawn[name] = np.broadcast_to(values[name], (DRAWS, count))
+            continue
         common_square = np.zeros(count)
         total = np.broadcast_to(values[name], (DRAWS, count)).copy()
         for group_name, rows, part, shape in groups:
@@ -142,7 +145,7 @@ def test_runs_of_one_bulb_share_its_volume_and_the_barometer(tmp_path):
     in_sample = np.array([True, True, True, False])
     groups = [("pressure", np.ones(4, bool), np.full(4, HALF_WIDTH / np.sqrt(3.0)), "rectangular")]
     for name in SHAREABLE_INPUTS:
-        if name in values and np.ptp(values[name][in_sample]) == 0 and np.ptp(u[name][in_sample]) == 0:
+        if name in u and np.ptp(values[name][in_sample]) == 0 and np.ptp(u[name][in_sample]) == 0:
             groups.append((name, in_sample, u[name], "normal"))
     assert {group[0] for group in groups} >= {"pressure", "volume", "co2", "air_density_formula"}
     outputs = _monte_carlo(result, profile, groups, np.random.default_rng(12))
