@@ -17,8 +17,9 @@ def test_flask_demo_section_finds_each_true_liquid():
     CoolProp (vapour densities at the bath, vapour pressures at room temperature, humid air) with
     teaching-lab noise (1 mg balance, 0.3 K, 0.1 kPa), and six runs of lighter gas collected over
     water (CoolProp gas densities at their partial pressure, IAPWS-95 water via CoolProp);
-    sample_runs/flask_key.csv names the substance of each unknown. The liquid from the key must be consistent or marginal in at least 80 % of
-    the runs (measured over 30 regenerated sections of 16 runs: 100 %, 96.7 % with |z| ≤ 2).
+    sample_runs/flask_key.csv names the substance of each unknown. The key's substance must be
+    consistent or marginal in at least 80 % of the runs (measured on the flask runs over 30
+    regenerated sections of 16 runs: 100 %, 96.7 % with |z| ≤ 2).
     """
     with (DEMO / "flask_key.csv").open(encoding="utf-8") as stream:
         key = {row["sample"]: row["expected"] for row in csv.DictReader(stream)}

@@ -179,6 +179,10 @@ def model_inputs(table: RunTable, profile: InstrumentProfile):
     return values, uncertainties, static
 
 
+#: Inputs whose sensitivities the candidate evaluation always needs (Z depends on T and p).
+_ALWAYS_DIFFERENTIATED = ("temperature", "pressure")
+
+
 def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
     """Molar mass and its uncertainty budget for every run of a validated table.
 
@@ -199,7 +203,18 @@ def evaluate_runs(table: RunTable, profile: InstrumentProfile | None = None):
     """
     profile = profile or load_profile()
     values, uncertainties, static = model_inputs(table, profile)
+    order = list(values)
+    # An input with no uncertainty in any run adds nothing to a budget: it is passed through
+    # undifferentiated (sensitivity reported as 0), so inputs no run's method uses cost nothing.
+    idle = [name for name in order if name not in _ALWAYS_DIFFERENTIATED
+            and not np.any(uncertainties[name])]
+    for name in idle:
+        static[name] = values.pop(name)
+        uncertainties.pop(name)
     propagation = propagate(measurement_model, values, uncertainties, static, output="molar_mass")
+    zeros = np.zeros(len(table))
+    propagation.sensitivities = {name: propagation.sensitivities.get(name, zeros) for name in order}
+    propagation.uncertainties = {name: propagation.uncertainties.get(name, zeros) for name in order}
     # Shallow copies: a row that gets a new problem gets a new list, the table's stay as read.
     errors = list(table.errors)
     warnings = list(table.warnings)

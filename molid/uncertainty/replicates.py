@@ -90,8 +90,8 @@ def shared_inputs(sample, values: dict, uncertainties: dict, ok) -> dict:
     frame = frame[np.asarray(ok)]
     result = {}
     for name in SHAREABLE_INPUTS:
-        if name not in values:
-            continue
+        if name not in values or name not in uncertainties:
+            continue  # an input with no uncertainty anywhere is passed through undifferentiated
         frame["value"] = np.asarray(values[name])[np.asarray(ok)]
         frame["u"] = np.asarray(uncertainties[name])[np.asarray(ok)]
         grouped = frame.groupby("sample", sort=False)
