@@ -239,13 +239,13 @@ def check_wet(method: pd.Series, wet: np.ndarray, problems: RowProblems) -> np.n
             wet |= names == method_name
         elif not entry.accepts_wet:
             problems.error((names == method_name) & wet, lambda i, method_name=method_name: (
-                f"column 'wet': a {method_name} run holds the substance's own vapour, not a gas "
+                f"column 'wet': {_article(method_name)} {method_name} run holds the substance's own vapour, not a gas "
                 "saturated with water; leave 'wet' empty or 'no'"))
     return wet
 
 
 def check_method_inputs(method: pd.Series, blanks: dict, by_name: dict[str, Header],
-                        problems: RowProblems) -> None:
+                        problems: RowProblems, typed: dict | None = None) -> None:
     """Error where a run's method needs an input that its row leaves blank or the file lacks.
 
     Parameters
@@ -258,8 +258,12 @@ def check_method_inputs(method: pd.Series, blanks: dict, by_name: dict[str, Head
         The file's headers by column name.
     problems : RowProblems
         Where the errors go.
+    typed : dict of numpy.ndarray, optional
+        Per column, True where the cell holds any text: such a cell that gives no
+        number already has its own error, and is not called empty.
     """
     names = method.to_numpy(dtype=object)
+    typed = typed or {}
     for method_name, entry in REGISTERED_METHODS.items():
         mine = names == method_name
         if not mine.any():
@@ -270,12 +274,15 @@ def check_method_inputs(method: pd.Series, blanks: dict, by_name: dict[str, Head
             label = INPUT_LABELS.get(name, name)
             if name not in by_name:
                 problems.error(mine, lambda i, name=name, label=label, method_name=method_name: (
-                    f"column '{name}' is missing; a {method_name} run needs it ({label})"))
+                    f"column '{name}' is missing; {_article(method_name)} {method_name} run needs it "
+                    f"({label})"))
             else:
                 original = by_name[name].original
-                problems.error(mine & blanks[name], lambda i, original=original, label=label,
+                empty = blanks[name] & ~typed.get(name, np.zeros(len(names), dtype=bool))
+                problems.error(mine & empty, lambda i, original=original, label=label,
                                method_name=method_name: (
-                    f"column '{original}': the cell is empty; a {method_name} run needs it ({label})"))
+                    f"column '{original}': the cell is empty; {_article(method_name)} {method_name} "
+                    f"run needs it ({label})"))
 
 
 def check_method_columns(method: pd.Series, by_name: dict[str, Header], source: str) -> None:
@@ -355,4 +362,10 @@ def check_unused_inputs(in_use: dict, blanks: dict, by_name: dict[str, Header],
         if name in by_name:
             original = by_name[name].original
             problems.warn(~rows & ~blanks[name], lambda i, original=original: (
-                f"column '{original}' is not used by a {names[i]} run; its value is ignored"))
+                f"column '{original}' is not used by {_article(names[i])} {names[i]} run; its value "
+                "is ignored"))
+
+
+def _article(word: str) -> str:
+    """Return "an" before a vowel sound, else "a" (method names: "an evacuated-bulb run")."""
+    return "an" if str(word)[:1].lower() in "aeiou" else "a"

@@ -451,7 +451,9 @@ def _measured_values(raw, by_name, units, decimal_comma, profile, register, prob
     values, blanks = read_measured(raw, by_name, units, decimal_comma, problems,
                                    None if ids is None else {"volume": pd.notna(ids)})
     # before the defaults fill blanks in: a method's own inputs are never assumed
-    check_method_inputs(method, blanks, by_name, problems)
+    typed = {name: (column_text(raw, header).str.strip() != "").to_numpy()
+             for name, header in by_name.items() if name in blanks}
+    check_method_inputs(method, blanks, by_name, problems, typed)
     in_use = inputs_in_use(method)
     check_unused_inputs(in_use, blanks, by_name, method, problems)
     stated = read_stated_uncertainties(raw, uncertainty_columns(by_name, units, source, notes),
