@@ -1,4 +1,4 @@
-"""Command line: ``molid identify``, ``library``, ``grade``, ``report`` and ``calibrate``.
+"""Command line: ``molid identify``, ``library``, ``grade``, ``report``, ``calibrate`` and ``columns``.
 
 A thin layer over the library. Exit status: 0 when every row was analysed, 1 when
 some rows had errors (reported; every other row still analysed), 2 for a usage
@@ -27,6 +27,7 @@ class _Parser(argparse.ArgumentParser):
 def _add_common(parser):
     parser.add_argument("file", help="run file: .csv (comma, semicolon or tab separated) or .xlsx; "
                         "'-' reads stdin")
+    _add_sheet(parser)
     parser.add_argument("--profile", metavar="TOML",
                         help="instrument profile giving default uncertainties (see README)")
     parser.add_argument("--library", metavar="CSV",
@@ -43,6 +44,21 @@ def _add_common(parser):
                         "instead of 'volume'")
 
 
+def _add_sheet(parser):
+    parser.add_argument("--sheet", metavar="NAME|N",
+                        help="workbook sheet to read, by name or position from 1 (default: the first "
+                        "sheet, or the only one with a header row)")
+
+
+def _run_source(args):
+    """Return the run file; with --sheet, that sheet's cells (carrying their header row, notes, name)."""
+    if args.sheet is None:
+        return args.file
+    from molid.io.reading import read_raw
+
+    return read_raw(args.file, sheet=args.sheet)[0]
+
+
 def _positive_int(text):
     try:
         value = int(text)
@@ -51,6 +67,26 @@ def _positive_int(text):
     if value < 1:
         raise argparse.ArgumentTypeError("must be 1 or more")
     return value
+
+
+def _seed(text):
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
+    if value < 0:
+        raise argparse.ArgumentTypeError("must be 0 or more")
+    return value
+
+
+def _add_monte_carlo(parser):
+    parser.add_argument("--monte-carlo", type=_positive_int, metavar="N",
+                        help="also propagate each run by Monte Carlo (GUM Supplement 1) with N draws "
+                        "and flag runs whose 95 %% interval differs from the linear one (N at least "
+                        "1000; N times the runs at most 20,000,000)")
+    parser.add_argument("--seed", type=_seed, metavar="S",
+                        help="random seed for --monte-carlo (default 0): the same seed gives the same "
+                        "numbers")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -71,6 +107,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_common(identify)
     identify.add_argument("--json", action="store_true", help="print the JSON document to stdout")
     identify.add_argument("-o", "--output", metavar="CSV", help="write one row per run to CSV")
+    _add_monte_carlo(identify)
 
     library = commands.add_parser(
         "library", help="list or search the candidate library",
@@ -120,6 +157,16 @@ def build_parser() -> argparse.ArgumentParser:
     calibrate.add_argument("--profile", metavar="TOML",
                            help="instrument profile giving default uncertainties (see README)")
     calibrate.add_argument("--force", action="store_true", help="replace an existing register file")
+
+    columns = commands.add_parser(
+        "columns", help="how each header of a run file is understood",
+        description="Show how molid reads each header: the column it means, its unit and the "
+        "conversion to SI, where a default uncertainty comes from, and the columns it does not use.",
+    )
+    columns.add_argument("file", help="run file: .csv or .xlsx; '-' reads stdin")
+    _add_sheet(columns)
+    columns.add_argument("--profile", metavar="TOML",
+                         help="instrument profile giving default uncertainties (see README)")
     return parser
 
 
@@ -135,9 +182,15 @@ def _identify(args) -> int:
 
     output = check_output_path(args.output, [args.file, args.profile, args.library, args.vessels],
                                args.force) if args.output else None
+    if args.seed is not None and args.monte_carlo is None:
+        print("molid: error: --seed needs --monte-carlo N", file=sys.stderr)
+        return EXIT_USAGE
+    source = _run_source(args)
     library = _load_library(args)
-    # A register lookup happens in the reader of the in-memory path only.
-    if output is not None and not args.json and not args.vessels and _is_large_csv(args.file):
+    # A register lookup happens in the reader of the in-memory path only; a Monte Carlo
+    # check needs the whole result (its draws are bounded, so the file is too).
+    if output is not None and not args.json and not args.vessels and args.monte_carlo is None \
+            and _is_large_csv(args.file):
         return _identify_streaming(args, output, library)
     from molid.io.json_document import to_json
     from molid.io.run_csv import to_csv
@@ -145,13 +198,22 @@ def _identify(args) -> int:
     from molid.io.terminal import to_table
     from molid.pipeline.identify import identify
 
-    result = identify(args.file, profile=args.profile, library=library, vessels=args.vessels)
+    result = identify(source, profile=args.profile, library=library, vessels=args.vessels)
+    check = None
+    if args.monte_carlo is not None:
+        from molid.pipeline.monte_carlo import DrawsRefused
+
+        try:
+            check = result.monte_carlo(args.monte_carlo, args.seed or 0)
+        except DrawsRefused as problem:
+            print(f"molid: error: {problem}", file=sys.stderr)
+            return EXIT_USAGE
     if args.json:
-        sys.stdout.write(to_json(result, None))
+        sys.stdout.write(to_json(result, None, check))
     else:
-        sys.stdout.write(to_table(result, args.top))
+        sys.stdout.write(to_table(result, args.top, check))
     if output is not None:
-        write_atomic(output, to_csv(result))
+        write_atomic(output, to_csv(result, monte_carlo=check))
         print(f"wrote {output}", file=sys.stderr)
     return EXIT_ROW_ERRORS if not result.ok.all() else EXIT_OK
 
@@ -254,7 +316,7 @@ def _grade(args) -> int:
     inputs = [args.file, args.profile, args.library, args.key, args.rubric, args.vessels]
     output = check_output_path(args.output, inputs, args.force) if args.output else None
     plots = _plots_folder(args)
-    grading = grade(args.file, key=args.key, rubric=args.rubric, profile=args.profile,
+    grading = grade(_run_source(args), key=args.key, rubric=args.rubric, profile=args.profile,
                     library=_load_library(args), vessels=args.vessels)
     if args.json:
         sys.stdout.write(json.dumps(grading_document(grading, args.top), indent=2,
@@ -279,9 +341,9 @@ def _report(args) -> int:
     from molid.reports import format_for, write_report
 
     path, ok = write_report(
-        args.file, args.output, format=args.format, paper=args.paper, profile=args.profile,
+        _run_source(args), args.output, format=args.format, paper=args.paper, profile=args.profile,
         library=_load_library(args), top=args.top, key=args.key, rubric=args.rubric,
-        force=args.force, inputs=[args.library, args.vessels], vessels=args.vessels,
+        force=args.force, inputs=[args.file, args.library, args.vessels], vessels=args.vessels,
     )
     print(f"wrote {path}", file=sys.stderr)
     suffix = Path(str(path)).suffix.lower()
@@ -309,8 +371,15 @@ def _calibrate(args) -> int:
     return EXIT_ROW_ERRORS if not calibration.ok.all() else EXIT_OK
 
 
+def _columns(args) -> int:
+    from molid.io.header_report import columns_text, describe_columns
+
+    sys.stdout.write(columns_text(describe_columns(args.file, profile=args.profile, sheet=args.sheet)))
+    return EXIT_OK
+
+
 _HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report,
-             "calibrate": _calibrate}
+             "calibrate": _calibrate, "columns": _columns}
 
 
 def main(argv=None) -> int:
