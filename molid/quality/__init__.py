@@ -1,0 +1,1 @@
+"""Quality control of a gas: purity, conformity to a specification, limiting densities."""
