@@ -239,8 +239,8 @@ def check_wet(method: pd.Series, wet: np.ndarray, problems: RowProblems) -> np.n
             wet |= names == method_name
         elif not entry.accepts_wet:
             problems.error((names == method_name) & wet, lambda i, method_name=method_name: (
-                f"column 'wet': {_article(method_name)} {method_name} run holds the substance's own vapour, not a gas "
-                "saturated with water; leave 'wet' empty or 'no'"))
+                f"column 'wet': {_article(method_name)} {method_name} run holds the substance's own "
+                "vapour, not a gas saturated with water; leave 'wet' empty or 'no'"))
     return wet
 
 
