@@ -89,6 +89,17 @@ def _add_monte_carlo(parser):
                         "numbers")
 
 
+def _add_quality(parser):
+    parser.add_argument("--contaminant", default="air", metavar="NAME",
+                        help="contaminant whose mole fraction each result is solved for (default air; "
+                        "a library name, formula or CAS number; a 'contaminant' column wins)")
+    parser.add_argument("--spec", metavar="FILE",
+                        help="purity specifications by label (TOML or CSV; see docs/purity.md)")
+    parser.add_argument("--rule", choices=("guarded", "simple"), default="guarded",
+                        help="decision rule for conformity (JCGM 106:2012): guarded acceptance with "
+                        "the guard band U (default), or simple acceptance")
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Build the argument parser (exposed for documentation and tests)."""
     parser = _Parser(
@@ -108,6 +119,7 @@ def build_parser() -> argparse.ArgumentParser:
     identify.add_argument("--json", action="store_true", help="print the JSON document to stdout")
     identify.add_argument("-o", "--output", metavar="CSV", help="write one row per run to CSV")
     _add_monte_carlo(identify)
+    _add_quality(identify)
 
     library = commands.add_parser(
         "library", help="list or search the candidate library",
@@ -180,8 +192,8 @@ def _load_library(args):
 def _identify(args) -> int:
     from molid.io.safe_files import check_output_path
 
-    output = check_output_path(args.output, [args.file, args.profile, args.library, args.vessels],
-                               args.force) if args.output else None
+    output = check_output_path(args.output, [args.file, args.profile, args.library, args.vessels,
+                                             args.spec], args.force) if args.output else None
     if args.seed is not None and args.monte_carlo is None:
         print("molid: error: --seed needs --monte-carlo N", file=sys.stderr)
         return EXIT_USAGE
@@ -190,7 +202,7 @@ def _identify(args) -> int:
     # A register lookup happens in the reader of the in-memory path only; a Monte Carlo
     # check needs the whole result (its draws are bounded, so the file is too).
     if output is not None and not args.json and not args.vessels and args.monte_carlo is None \
-            and _is_large_csv(args.file):
+            and not args.spec and args.contaminant == "air" and _is_large_csv(args.file):
         return _identify_streaming(args, output, library)
     from molid.io.json_document import to_json
     from molid.io.run_csv import to_csv
@@ -198,7 +210,8 @@ def _identify(args) -> int:
     from molid.io.terminal import to_table
     from molid.pipeline.identify import identify
 
-    result = identify(source, profile=args.profile, library=library, vessels=args.vessels)
+    result = identify(source, profile=args.profile, library=library, vessels=args.vessels,
+                      contaminant=args.contaminant, specifications=args.spec, rule=args.rule)
     check = None
     if args.monte_carlo is not None:
         from molid.pipeline.monte_carlo import DrawsRefused

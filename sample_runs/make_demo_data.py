@@ -120,6 +120,69 @@ def qa_cylinders(rng):
     write(ROOT / "qa_cylinders.csv", rows, columns)
 
 
+# QA purity check: sulfur hexafluoride with some air, densities from CoolProp's mixture model.
+SF6_CAS = "2551-62-4"
+AIR_PARTS = {"Nitrogen": 0.780848, "Oxygen": 0.209390, "Argon": 0.009332, "CarbonDioxide": 0.0004}
+
+
+def sf6_with_air(fraction, temperature, pressure):
+    """Density [kg/m³] of SF6 with a mole fraction of dry air (CIPM-2007 composition), CoolProp.
+
+    CoolProp has no fitted SF6 pairs with the air components; the Lorentz-Berthelot rule it
+    applies on request stands in (adequate for demo data).
+    """
+    import CoolProp.CoolProp as CP
+
+    for cas in ("7727-37-9", "7782-44-7", "7440-37-1", "124-38-9"):
+        try:
+            CP.apply_simple_mixing_rule(SF6_CAS, cas, "Lorentz-Berthelot")
+        except ValueError:
+            pass
+    parts = {"SulfurHexafluoride": 1.0 - fraction, **{k: fraction * v for k, v in AIR_PARTS.items()}}
+    state = CP.AbstractState("HEOS", "&".join(parts))
+    state.set_mole_fractions(list(parts.values()))
+    state.specify_phase(CP.iphase_gas)
+    state.update(CP.PT_INPUTS, pressure, temperature)
+    return state.rhomass()
+
+
+def qa_purity(rng):
+    """Second delivery at the (fictional) Larkspur Coatings QA lab: three SF6 cylinders checked
+    against the purchase specification (at least 99.5 % SF6, air the expected contaminant) and one
+    filled to four pressures for a model-free molar mass (the method of limiting densities).
+    """
+    plan = [  # sample, true air fraction, bulb fill pressure kPa
+        ("CYL-2301", 0.0004, 100.6), ("CYL-2301", 0.0004, 100.9),
+        ("CYL-2302", 0.0049, 100.4), ("CYL-2302", 0.0049, 100.7),
+        ("CYL-2303", 0.021, 100.8), ("CYL-2303", 0.021, 100.5),
+        ("CYL-2304", 0.0004, 32.0), ("CYL-2304", 0.0004, 48.5), ("CYL-2304", 0.0004, 71.0),
+        ("CYL-2304", 0.0004, 100.6),
+    ]
+    rows = []
+    offset_temp, offset_pressure = 0.03 * rng.standard_normal(), 0.02 * rng.standard_normal()
+    for number, (sample, fraction, kilopascal) in enumerate(plan, start=1):
+        temp_c = 20.8 + 1.0 * rng.random()
+        T, p, V = temp_c + 273.15, kilopascal * 1e3, 1000.37e-6
+        gas = sf6_with_air(fraction, T, p) * V
+        rho_air = simulate.air_density(T, 100.8e3, 0.42)
+        tare, filled = simulate.readings("evacuated-bulb", gas, rho_air, V, glass=0.2105)
+        noise = rng.standard_normal(4)
+        rows.append({
+            "run": f"QB-{number:03d}", "sample": sample, "method": "evacuated-bulb",
+            "mass_tare [g]": f"{tare * 1e3 + 1e-4 * noise[0]:.4f}",
+            "mass_filled [g]": f"{filled * 1e3 + 1e-4 * noise[1]:.4f}",
+            "volume [mL]": "1000.37", "u_volume [mL]": "0.05",
+            "temperature [degC]": f"{temp_c + offset_temp + 0.03 * noise[2]:.2f}",
+            "pressure [kPa]": f"{kilopascal + offset_pressure + 0.02 * noise[3]:.2f}",
+            "air_pressure [kPa]": "100.80", "humidity [%]": "42", "expected": "sulfur hexafluoride",
+            "operator": "R. Lindqvist", "date": "2026-12-01",
+        })
+    columns = ["run", "sample", "method", "mass_tare [g]", "mass_filled [g]", "volume [mL]", "u_volume [mL]",
+               "temperature [degC]", "pressure [kPa]", "air_pressure [kPa]", "humidity [%]", "expected",
+               "operator", "date"]
+    write(ROOT / "qa_purity.csv", rows, columns)
+
+
 # Teaching section: a student's own arithmetic, with the classic mistakes some make.
 ATM_IN_MMHG = 760.0            # 1 atm = 760 mmHg (definition of the standard atmosphere)
 R_LITRE_ATM = R / 101.325      # L·atm/(mol·K): 101.325 J per L·atm
@@ -418,6 +481,7 @@ def main():
     qa_cylinders(rng)
     teaching_section(np.random.default_rng(20261203))
     flask_section(np.random.default_rng(20270118))
+    qa_purity(np.random.default_rng(20261201))
 
 
 if __name__ == "__main__":

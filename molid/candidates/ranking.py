@@ -238,10 +238,31 @@ def _finite(value):
     return value if np.isfinite(value) else None
 
 
-def _group_matrix(codes, groups, size):
-    from scipy.sparse import csr_matrix
+class _GroupSums:
+    """The (samples × runs) sum matrix of the runs' samples, applied with ``@``.
 
-    return csr_matrix((np.ones(len(codes)), (codes, np.arange(len(codes)))), shape=(groups, size))
+    ``sums @ values`` adds the rows of ``values`` (one per run) by sample, each
+    sample's runs in file order starting from zero: the order a compressed-row
+    sparse product sums them in, so the sums are the same to the last bit, without
+    the import of scipy.sparse.
+    """
+
+    def __init__(self, codes, groups):
+        self.codes = np.asarray(codes, dtype=np.intp)
+        self.groups = groups
+
+    def __matmul__(self, values):
+        values = np.asarray(values, dtype=float)
+        sums = np.zeros((self.groups, *values.shape[1:]))
+        np.add.at(sums, self.codes, values)
+        return sums
+
+
+def _group_matrix(codes, groups, size):
+    """Return the sum matrix of ``size`` runs (``codes``: each run's sample) into ``groups`` samples."""
+    if len(codes) != size:  # a programming error: one code per run
+        raise ValueError(f"{len(codes)} sample codes for {size} runs")
+    return _GroupSums(codes, groups)
 
 
 def _evaluate_runs(result, index, library):
@@ -278,6 +299,22 @@ def _independent_uncertainty(u_run, shared, value):
     return np.maximum(independent, 1e-9 * np.abs(value) + 1e-300)
 
 
+def _candidate_birge(matrix, values, mean, u_independent):
+    """Each sample's Birge ratio per candidate, from its runs read as that candidate, at least 1.
+
+    The runs are compared as each candidate reads them (its own Z at each run's pressure), so
+    that a series of runs at different pressures scatters only as its readings do; where the
+    ratio exceeds 1 the independent part is widened by it (as for the ideal-gas combination,
+    see :mod:`molid.uncertainty.replicates`).
+    """
+    counts = matrix @ np.ones(values.shape[0])
+    per_run_mean = mean[matrix.codes]
+    with np.errstate(all="ignore"):
+        chi_square = matrix @ (((values - per_run_mean) / u_independent) ** 2)
+        birge = np.sqrt(chi_square / (counts - 1)[:, None])
+    return np.where(np.isfinite(birge) & (birge > 1.0), birge, 1.0)
+
+
 def _combine_samples(result, index, runs, library, sample_ids, names):
     """Per-candidate values of each sample, from its runs' per-candidate values.
 
@@ -298,17 +335,16 @@ def _combine_samples(result, index, runs, library, sample_ids, names):
         return (matrix @ (weight[:, None] * values)) / total_weight[:, None]
 
     measured = mean(runs["measured"][in_sample])
-    birge = result.samples["birge_ratio"].to_numpy(dtype=float)
-    widen = np.where(result.samples["widened"].to_numpy(dtype=bool), birge, 1.0)
     # the residual-vapour correction's input part is read afresh in each run
     u_ind_run = np.sqrt((Z * independent[:, None]) ** 2 + runs["u_extra"][in_sample] ** 2)
+    widen = _candidate_birge(matrix, runs["measured"][in_sample], measured, u_ind_run)
     u_independent = np.sqrt(matrix @ ((weight[:, None] * u_ind_run) ** 2)) / total_weight[:, None]
     u_model = mean(runs["u_model"][in_sample])
     shared_total = np.zeros_like(measured)
     for part in shared.values():
         shared_total += mean(Z * part[:, None]) ** 2
     shared_total += u_model**2
-    u_measured = np.sqrt((u_independent * widen[:, None]) ** 2 + shared_total)
+    u_measured = np.sqrt((u_independent * widen) ** 2 + shared_total)
     u_candidate = library["u_molar_mass"].to_numpy(dtype=float)
     u_total = np.sqrt(u_measured**2 + u_candidate**2)
     z = (measured - library["molar_mass"].to_numpy(dtype=float)) / u_total

@@ -13,6 +13,7 @@ import numpy as np
 
 from molid import __version__
 from molid.candidates.hazards import hazard_summary, pressure_unit_texts
+from molid.io.quality_output import conformity_block, hypotheses_block, limiting_block, purity_block
 from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -117,10 +118,24 @@ def _run_entry(result, index, top, context) -> dict:
         propagated = result.propagation.extras
         entry["gas_mass_g"] = _float(propagated["gas_mass"][index] * 1e3)
         entry["air_density_kg_m3"] = _float(propagated["air_density"][index])
+        _add_quality(entry, getattr(result, "quality", None), index, "runs")
     entry["hazards"] = _hazards(context, entry["candidates"],
                                 lambda: ranking.run_candidates(index), top, extras,
                                 [entry["method"]], not error)
     return entry
+
+
+def _add_quality(entry, quality, key, level):
+    """Add the ``purity`` and ``conformity`` keys where the result has them."""
+    hypotheses = hypotheses_block(quality, key)
+    if hypotheses:
+        entry["mixture_hypotheses"] = hypotheses
+    purity = purity_block(quality, key, level)
+    if purity is not None:
+        entry["purity"] = purity
+        conformity = conformity_block(quality, key, level)
+        if conformity is not None:
+            entry["conformity"] = conformity
 
 
 def _sample_entries(result, top, context) -> list:
@@ -148,6 +163,10 @@ def _sample_entries(result, top, context) -> list:
             if ranking is not None:
                 entry["candidates"] = ranking.sample_candidates(name, top)
                 entry.update(ranking.sample_extras(name))
+                _add_quality(entry, getattr(result, "quality", None), name, "samples")
+                limiting = limiting_block(getattr(result, "quality", None), name)
+                if limiting is not None:
+                    entry["limiting_density"] = limiting
         entry["hazards"] = _hazards(
             context, entry["candidates"], lambda name=name: ranking.sample_candidates(name), top,
             entry, list(context["sample_methods"].get(name, {})), entry["molar_mass"] is not None)

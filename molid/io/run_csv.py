@@ -11,6 +11,7 @@ import numpy as np
 import pandas as pd
 
 from molid.candidates.verdicts import VERDICTS, rank_key, verdicts
+from molid.io.quality_output import csv_columns
 from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -113,6 +114,10 @@ def csv_frame(result, monte_carlo=None) -> pd.DataFrame:
             columns[f"candidate_{place + 1}_verdict"] = verdict[:, place]
             columns[f"candidate_{place + 1}_z"] = z[:, place]
         columns["label_verdict"] = _label_verdicts(result.ranking, n)
+    quality = getattr(result, "quality", None)
+    if quality is not None:
+        for name, item in csv_columns(quality, n).items():
+            columns[f"molid_{name}" if name in user_columns else name] = item
     if monte_carlo is not None:
         for name, item in _monte_carlo_columns(monte_carlo).items():
             columns[f"molid_{name}" if name in user_columns else name] = item

@@ -13,6 +13,7 @@ import numpy as np
 from molid.candidates.hazards import hazard_line
 from molid.candidates.verdicts import LABEL_MEANINGS
 from molid.io.json_document import to_document
+from molid.io.quality_output import conformity_text, hypothesis_text, limiting_text
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 from molid.uncertainty.validation import SUGGESTED_DRAWS
 
@@ -100,6 +101,14 @@ def _sample_lines(entry, top) -> list:
     label = entry.get("label")
     if label:
         lines.append(f"    label: {_label_text(label)}")
+    if entry.get("purity"):
+        lines.append(f"    purity: {entry['purity']['statement']}")
+    if entry.get("limiting_density"):
+        lines.append(f"    limiting density: {limiting_text(entry['limiting_density'])}")
+    if entry.get("mixture_hypotheses"):
+        lines.append(f"    hypotheses: {hypothesis_text(entry['mixture_hypotheses'])}")
+    if entry.get("conformity"):
+        lines.append(f"    specification: {conformity_text(entry['conformity'])}")
     if "hazards" in entry:
         lines.append(f"    hazards: {hazard_line(entry['hazards'])}")
     for note in entry.get("distinguish", []) or []:

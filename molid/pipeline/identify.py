@@ -18,6 +18,7 @@ from molid.io.reading import RunTable, read_runs
 from molid.methods.inputs import INPUT_LABELS, MEASURED_INPUTS
 from molid.methods.model import measurement_model
 from molid.methods.registry import METHODS, method_codes
+from molid.pipeline.quality import assess_quality
 from molid.uncertainty.propagation import COVERAGE_FACTOR, budget_percent, complex_step_jacobian, propagate
 from molid.uncertainty.replicates import combine_replicates, shared_inputs
 
@@ -65,6 +66,8 @@ class Identification:
         empty when no run needs it.
     ranking : object or None
         Per-candidate evaluation (see :mod:`molid.candidates.ranking`).
+    quality : object or None
+        Purity and conformity of every run and sample (see :mod:`molid.pipeline.quality`).
     notes : list of str
         File-level remarks.
     """
@@ -83,6 +86,7 @@ class Identification:
     residual: dict = field(default_factory=dict)
     ranking: object = None
     sample_ranking: object = None
+    quality: object = None
     notes: list = field(default_factory=list)
 
     @property
@@ -407,6 +411,9 @@ def identify(
     rank: bool = True,
     combine: bool = True,
     vessels=None,
+    contaminant: str = "air",
+    specifications=None,
+    rule: str = "guarded",
 ) -> Identification:
     """Analyse a run file or DataFrame: molar mass, uncertainty, samples and candidates.
 
@@ -427,6 +434,9 @@ def identify(
     vessels : VesselRegister or path, optional
         Vessel register: runs may name a ``vessel`` instead of a ``volume`` (see
         :mod:`molid.io.vessel_column`).
+    contaminant, specifications, rule : optional
+        Default contaminant, purity specifications and decision rule of the QA step
+        (see :func:`molid.pipeline.quality.assess_quality`).
 
     Returns
     -------
@@ -470,4 +480,5 @@ def identify(
     )
     if rank:
         rank_identification(result, library=library)
+        assess_quality(result, contaminant=contaminant, specifications=specifications, rule=rule)
     return result
