@@ -19,7 +19,14 @@ import pandas as pd
 
 from molid.candidates.dissolution import load_henry_table
 from molid.candidates.evaluation import evaluate_in_blocks, residual_rows
-from molid.candidates.verdicts import DISSOLVES, SEPARATION_FACTOR, VERDICTS, rank_order, verdicts
+from molid.candidates.verdicts import (
+    DISSOLVES,
+    SEPARATION_FACTOR,
+    VERDICTS,
+    rank_order,
+    relative_difference,
+    verdicts,
+)
 from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import needs_correction
 
@@ -60,7 +67,8 @@ class Ranking:
     def _candidates(self, block, k, top):
         z = block["z"][k]
         condenses, unfit = block["condenses"][k], block["unfit"][k]
-        order = rank_order(z, condenses, unfit)
+        relative = relative_difference(block["measured"][k], self._molar_mass)
+        order = rank_order(z, condenses, unfit, relative)
         codes = verdicts(z, condenses, unfit)
         if top is not None:
             order = order[:top]
@@ -76,6 +84,7 @@ class Ranking:
                 "measured": {"value": _finite(block["measured"][k, j] * _GRAMS_PER_KILOGRAM),
                              "u": _finite(block["u_total"][k, j] * _GRAMS_PER_KILOGRAM)},
                 "z": z_value,
+                "relative_difference": _finite(relative[j]),
                 "verdict": VERDICTS[codes[j]],
                 "Z": _finite(Z),
                 "model": "virial, Tsonopoulos" if self._has[j] else "ideal gas (no critical data)",
@@ -118,7 +127,8 @@ class Ranking:
     def _distinguish(self, block, k, budget):
         z = block["z"][k]
         condenses, unfit = block["condenses"][k], block["unfit"][k]
-        order = rank_order(z, condenses, unfit)
+        relative = relative_difference(block["measured"][k], self._molar_mass)
+        order = rank_order(z, condenses, unfit, relative)
         codes = verdicts(z, condenses, unfit)
         notes = []
         consistent = [j for j in order if codes[j] == 0]
@@ -204,7 +214,8 @@ class Ranking:
                             "with --candidate FORMULA=NAME or --library"}
         z = block["z"][k]
         condenses, unfit = block["condenses"][k], block["unfit"][k]
-        order = list(rank_order(z, condenses, unfit))
+        order = list(rank_order(z, condenses, unfit,
+                                relative_difference(block["measured"][k], self._molar_mass)))
         verdict = VERDICTS[verdicts(z[j:j + 1], condenses[j:j + 1], unfit[j:j + 1])[0]]
         return {
             "expected": text,

@@ -21,8 +21,12 @@ unsatisfactory (an action signal) (from memory). At exactly |z| = 3.0 molid says
 ``marginal`` where ISO 13528 would say unsatisfactory; for a continuous z the two
 differ on a single point.
 
-Candidates are ranked by |z|; those that cannot be the gas (the last three
-verdicts) come after all others.
+Ranking: consistent and marginal candidates by |z|; then the excluded ones by
+the relative difference between the candidate's molar mass and the result read
+as that candidate, |M_c − M_as_c|/M_c, so that the runners-up are the nearest in
+molar mass (ordering excluded candidates by |z| would put a polar candidate with a
+wide model term, 40 g/mol away, before one 7 g/mol away); those that cannot be the
+gas (the last three verdicts) come after all others.
 
 References
 ----------
@@ -44,6 +48,7 @@ __all__ = [
     "verdicts",
     "rank_key",
     "rank_order",
+    "relative_difference",
 ]
 
 VERDICTS = ("consistent", "marginal", "excluded", "condenses", "not-a-liquid", "dissolves")
@@ -104,8 +109,32 @@ def verdicts(z, condenses, unfit=None) -> np.ndarray:
     return codes if unfit is None else np.where((unfit > 0) & ~condenses, unfit, codes)
 
 
-def rank_key(z, condenses, unfit=None) -> np.ndarray:
-    """Sort key of each candidate: |z|, after every other if it cannot be the gas, NaN last.
+def relative_difference(measured, molar_mass):
+    """Return |M_c − M_as_c|/M_c: how far the result read as each candidate is from its molar mass [1].
+
+    Parameters
+    ----------
+    measured : numpy.ndarray
+        The result read as each candidate [kg/mol] (candidates along the last axis).
+    molar_mass : numpy.ndarray
+        Each candidate's molar mass [kg/mol].
+
+    Returns
+    -------
+    numpy.ndarray
+        Same shape as ``measured``.
+
+    Examples
+    --------
+    >>> relative_difference(np.array([0.102, 0.044]), np.array([0.10203, 0.04401])).round(5).tolist()
+    [0.00029, 0.00023]
+    """
+    with np.errstate(all="ignore"):
+        return np.abs(np.asarray(measured, dtype=float) - molar_mass) / molar_mass
+
+
+def rank_key(z, condenses, unfit=None, relative=None) -> np.ndarray:
+    """Sort key of each candidate (smaller first).
 
     Parameters
     ----------
@@ -115,17 +144,25 @@ def rank_key(z, condenses, unfit=None) -> np.ndarray:
         Whether each candidate would condense; same shape as ``z``.
     unfit : numpy.ndarray of int, optional
         The method's own verdict codes of :func:`verdicts` (0 where none).
+    relative : numpy.ndarray, optional
+        :func:`relative_difference` of each candidate; without it excluded candidates
+        are ordered by |z| too.
 
     Returns
     -------
     numpy.ndarray
-        Smaller ranks first.
+        Consistent and marginal candidates by |z| (below 3); excluded ones after them by
+        ``relative`` (10 + relative); those that cannot be the gas last; NaN z last of all.
     """
+    size = np.where(np.isnan(z), np.inf, np.abs(z))
+    if relative is not None:
+        excluded = size >= MARGINAL_LIMIT
+        size = np.where(excluded & np.isfinite(size), 10.0 + np.nan_to_num(relative, nan=np.inf), size)
     cannot = condenses if unfit is None else (condenses | (unfit > 0))
-    return np.where(np.isnan(z), np.inf, np.abs(z)) + np.where(cannot, 1e300, 0.0)
+    return size + np.where(cannot, 1e300, 0.0)
 
 
-def rank_order(z, condenses, unfit=None) -> np.ndarray:
+def rank_order(z, condenses, unfit=None, relative=None) -> np.ndarray:
     """Candidate positions in ranked order: by |z|, those that cannot be the gas after the rest, no z last.
 
     Parameters
@@ -136,10 +173,12 @@ def rank_order(z, condenses, unfit=None) -> np.ndarray:
         Whether each candidate would condense; same shape as ``z``.
     unfit : numpy.ndarray of int, optional
         The method's own verdict codes of :func:`verdicts` (0 where none).
+    relative : numpy.ndarray, optional
+        :func:`relative_difference`, which orders the excluded candidates.
 
     Returns
     -------
     numpy.ndarray of int
         Indices that sort the last axis; ties keep library order.
     """
-    return np.argsort(rank_key(z, condenses, unfit), axis=-1, kind="stable")
+    return np.argsort(rank_key(z, condenses, unfit, relative), axis=-1, kind="stable")

@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from molid.candidates.verdicts import VERDICTS, rank_key, verdicts
+from molid.candidates.verdicts import VERDICTS, rank_key, relative_difference, verdicts
 from molid.io.quality_output import csv_columns
 from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
@@ -52,7 +52,8 @@ def _top_candidates(ranking, n_rows, places):
         return names, verdict, z_out
     z = ranking.runs["z"]
     condenses, unfit = ranking.runs["condenses"], ranking.runs["unfit"]
-    key = rank_key(z, condenses, unfit)
+    key = rank_key(z, condenses, unfit, relative_difference(
+        ranking.runs["measured"], ranking.library["molar_mass"].to_numpy(dtype=float)))
     count = min(places, key.shape[1])
     best = np.argpartition(key, count - 1, axis=1)[:, :count] if key.shape[1] > count else \
         np.tile(np.arange(key.shape[1]), (len(rows), 1))

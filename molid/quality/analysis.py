@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 
 from molid.candidates.search import find_candidate
-from molid.candidates.verdicts import UNFIT_VERDICTS, VERDICTS, rank_order, verdicts
+from molid.candidates.verdicts import UNFIT_VERDICTS, VERDICTS, rank_order, relative_difference, verdicts
 from molid.methods.registry import needs_correction
 from molid.quality.conformity import RULES, decide
 from molid.quality.purity import contaminant_fraction
@@ -140,13 +140,18 @@ def _best_per_gas(items):
     return list(best.values())
 
 
+def _relative(ranking, block):
+    """Each candidate's relative difference, which orders the excluded ones."""
+    return relative_difference(block["measured"], ranking.library["molar_mass"].to_numpy(dtype=float))
+
+
 def _main_gas(ranking, block, keys, labels):
     """Library row of each result's main gas: its label's entry, else its leading possible candidate."""
     count = len(keys)
     main = np.full(count, -1)
     if count == 0:
         return main, np.zeros(count, dtype=bool)
-    order = rank_order(block["z"], block["condenses"], block["unfit"])
+    order = rank_order(block["z"], block["condenses"], block["unfit"], _relative(ranking, block))
     main[:] = order[:, 0]
     rows = {key: label[1] for key, label in labels.items() if label[1] is not None}
     found = pd.Series(keys, dtype=object).map(rows).to_numpy(dtype=float)
@@ -157,7 +162,7 @@ def _main_gas(ranking, block, keys, labels):
 
 def _best_pure(ranking, block):
     """Name of each result's leading candidate where it is consistent as a pure gas, else ''."""
-    order = rank_order(block["z"], block["condenses"], block["unfit"])[:, 0]
+    order = rank_order(block["z"], block["condenses"], block["unfit"], _relative(ranking, block))[:, 0]
     rows = np.arange(len(order))
     codes = verdicts(block["z"][rows, order], block["condenses"][rows, order], block["unfit"][rows, order])
     names = ranking.library["name"].to_numpy(dtype=object)

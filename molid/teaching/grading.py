@@ -33,7 +33,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from molid.candidates.verdicts import rank_key
+from molid.candidates.verdicts import rank_key, relative_difference
 from molid.io.headers import parse_header
 from molid.io.problems import InputError
 from molid.io.profiles import load_profile
@@ -225,20 +225,23 @@ def _ranking_positions(ranking, count: int) -> np.ndarray:
     return position
 
 
-def _rank_among_candidates(block: dict, runs, gases) -> np.ndarray:
+def _rank_among_candidates(block: dict, runs, gases, molar_masses) -> np.ndarray:
     """Place (1 = first) of one gas per run in that run's candidate ranking.
 
-    Candidates rank by |z|, a condensing one after every other; a tie goes to
-    the earlier library entry, as in the ranking itself.
+    Candidates rank as :func:`molid.candidates.verdicts.rank_key` orders them (the
+    excluded ones by relative difference); a tie goes to the earlier library entry,
+    as in the ranking itself.
     """
-    order_key = rank_key(block["z"], block["condenses"], block["unfit"])
+    order_key = rank_key(block["z"][runs], block["condenses"][runs], block["unfit"][runs],
+                         relative_difference(block["measured"][runs], molar_masses))
+    runs = np.arange(len(runs))
     own = order_key[runs, gases][:, None]
     columns = np.arange(order_key.shape[1])[None, :]
     return ((order_key[runs] < own) | ((order_key[runs] == own) & (columns < gases[:, None]))
             ).sum(axis=1) + 1
 
 
-def _true_gas_standing(block: dict, position, true_index, true_mass) -> dict:
+def _true_gas_standing(block: dict, position, true_index, true_mass, molar_masses) -> dict:
     """Where the true gas stands in each run's ranking, and its recomputed interval.
 
     Parameters
@@ -251,6 +254,8 @@ def _true_gas_standing(block: dict, position, true_index, true_mass) -> dict:
         Library position of each run's true gas; -1 when none.
     true_mass : numpy.ndarray
         True molar mass of each run [kg/mol].
+    molar_masses : numpy.ndarray
+        Each library candidate's molar mass [kg/mol] (the ranking's order of excluded ones).
 
     Returns
     -------
@@ -269,7 +274,7 @@ def _true_gas_standing(block: dict, position, true_index, true_mass) -> dict:
     z[ranked] = block["z"][runs, gases]
     rank = np.full(count, -1, dtype=int)
     if ranked.any():
-        rank[ranked] = _rank_among_candidates(block, runs, gases)
+        rank[ranked] = _rank_among_candidates(block, runs, gases, molar_masses)
     molar_mass = np.full(count, np.nan)
     molar_mass[ranked] = block["measured"][runs, gases]
     expanded = np.full(count, np.nan)
@@ -568,7 +573,8 @@ def grade(source, *, key=None, rubric=None, profile=None, library=None, vessels=
 
     result = identify(table, profile=profile, library=library)
     position = _ranking_positions(result.ranking, len(table))
-    standing = _true_gas_standing(result.ranking.runs, position, true_index, true_mass)
+    standing = _true_gas_standing(result.ranking.runs, position, true_index, true_mass,
+                                  result.ranking.library["molar_mass"].to_numpy(dtype=float))
     diagnosis = _diagnose_reported(table, profile, rubric, result.ok)
     if result.residual:
         notes = list(notes) + [_FLASK_DIAGNOSIS]
