@@ -10,9 +10,7 @@ so the reader's message about missing columns names what the file holds.
 
 from __future__ import annotations
 
-import csv
 import re
-from dataclasses import dataclass
 
 import pandas as pd
 
@@ -21,9 +19,11 @@ from molid.io.headers import HEADER_SEARCH_ROWS, is_header_row
 from molid.io.problems import InputError
 
 __all__ = [
-    "HeaderLine",
-    "find_header_line",
+    "column_labels",
     "header_index",
+    "header_line_notes",
+    "join_header_lines",
+    "title_text",
     "frame_below_header",
     "title_note",
     "choose_sheet",
@@ -31,77 +31,75 @@ __all__ = [
 ]
 
 _LINE_END = re.compile(r"\r\n|\r|\n")
-_SEPARATORS = (",", ";", "\t")
 _TITLE_LENGTH = 80
 
 
-@dataclass(frozen=True)
-class HeaderLine:
-    """Where a delimited text's header is.
-
-    Attributes
-    ----------
-    index : int
-        Line of the header, counting from 0 (its spreadsheet row is ``index + 1``).
-    offset : int
-        Character position where the header line starts.
-    separator : str
-        The separator that splits the header into the required names.
-    titles : list of str
-        The non-blank lines above the header, as written.
-    """
-
-    index: int
-    offset: int
-    separator: str
-    titles: list
-
-
-def _first_lines(text: str, count: int) -> list:
-    """Return the first ``count`` lines of a text, each with the position where it starts."""
-    lines, start = [], 0
-    for match in _LINE_END.finditer(text):
-        lines.append((start, text[start:match.start()]))
-        start = match.end()
-        if len(lines) == count:
-            return lines
-    if start < len(text):
-        lines.append((start, text[start:]))
-    return lines
-
-
-def find_header_line(text: str) -> HeaderLine | None:
-    """Find the header line of delimited text (comma, semicolon or tab separated).
+def title_text(cells, separator: str) -> str:
+    """Return a title row as a spreadsheet shows it: its cells, without quotes or empty cells.
 
     Parameters
     ----------
-    text : str
-        The file's text, or at least its first lines.
+    cells : list of str
+        The row's cells.
+    separator : str
+        The file's separator, shown between the cells.
 
     Returns
     -------
-    HeaderLine or None
-        The first line, within the search rows, whose cells name every required column
-        for one of the separators; None when there is no such line.
+    str
+        The cells joined, shortened to 80 characters.
+
+    Examples
+    --------
+    >>> title_text(["Gas bulbs", " 3 Dec", ""], ",")
+    'Gas bulbs, 3 Dec'
     """
-    lines = _first_lines(text, HEADER_SEARCH_ROWS)
-    for index, (offset, line) in enumerate(lines):
-        # the separator used most on the line first: a title's comma must not split the header
-        for separator in sorted(_SEPARATORS, key=line.count, reverse=True):
-            if not line.count(separator):
-                continue
-            cells = next(csv.reader([line], delimiter=separator, skipinitialspace=True), [])
-            if is_header_row(cells):
-                titles = [_title(earlier, separator) for _, earlier in lines[:index]]
-                return HeaderLine(index, offset, separator, [title for title in titles if title])
-    return None
-
-
-def _title(line: str, separator: str) -> str:
-    """Return a title line as a spreadsheet shows it: its cells, without quotes or trailing empty cells."""
-    cells = next(csv.reader([line], delimiter=separator, skipinitialspace=True), [])
     joint = "  " if separator == "\t" else f"{separator} "
-    return _shorten(joint.join(cell.strip() for cell in cells if cell.strip()))
+    return _shorten(joint.join(str(cell).strip() for cell in cells if str(cell).strip()))
+
+
+def join_header_lines(cell) -> str:
+    r"""Read a header cell that holds line breaks (a wrapped header) as one line.
+
+    Parameters
+    ----------
+    cell : str
+        The header cell as written.
+
+    Returns
+    -------
+    str
+        Its lines, stripped, joined by single spaces; a cell without a line break as it is.
+
+    Examples
+    --------
+    >>> join_header_lines("Temperature\n(°C)")
+    'Temperature (°C)'
+    """
+    text = str(cell)
+    if "\n" not in text and "\r" not in text:
+        return text
+    return " ".join(part.strip() for part in _LINE_END.split(text) if part.strip())
+
+
+def header_line_notes(cells, header_row: int) -> list:
+    """Write a note for each header cell that held a line break, saying how it was read.
+
+    Parameters
+    ----------
+    cells : list of str
+        The header's cells as written.
+    header_row : int
+        The header's spreadsheet row.
+
+    Returns
+    -------
+    list of str
+        One note per such cell.
+    """
+    return [f"the header cell '{_shorten(str(cell).strip())!s}' in row {header_row} holds a line break; "
+            f"it was read as '{join_header_lines(cell)}'"
+            for cell in cells if join_header_lines(cell) != str(cell)]
 
 
 def _shorten(text: str) -> str:
@@ -123,21 +121,38 @@ def header_index(cells: pd.DataFrame) -> int | None:
         column; None when there is none.
     """
     for index in range(min(len(cells), HEADER_SEARCH_ROWS)):
-        if is_header_row(cells.iloc[index].tolist()):
+        if is_header_row([join_header_lines(cell) for cell in cells.iloc[index].tolist()]):
             return index
     return None
 
 
-def _unique_headers(cells) -> list:
-    """Header cells as column labels the way pandas names them: 'Unnamed: 3' when blank, 'x.1' repeated."""
-    labels, seen = [], {}
+def column_labels(cells) -> list:
+    """Label a header's cells as pandas does: ``Unnamed: 3`` where blank, ``x.1`` for a second ``x``.
+
+    Parameters
+    ----------
+    cells : list of str
+        The header's cells (line breaks already joined).
+
+    Returns
+    -------
+    list of str
+        One unique label per cell; two headers that mean one column are told apart by
+        :func:`molid.io.headers.resolve_headers`, which names both.
+
+    Examples
+    --------
+    >>> column_labels(["run", "pressure", "pressure", ""])
+    ['run', 'pressure', 'pressure.1', 'Unnamed: 3']
+    """
+    labels, used = [], set()
     for position, cell in enumerate(cells):
         label = str(cell) if str(cell).strip() else f"Unnamed: {position}"
-        if label in seen:
-            seen[label] += 1
-            label = f"{label}.{seen[label]}"
-        else:
-            seen[label] = 0
+        base, repeat = label, 0
+        while label in used:
+            repeat += 1
+            label = f"{base}.{repeat}"
+        used.add(label)
         labels.append(label)
     return labels
 
@@ -169,7 +184,9 @@ def frame_below_header(cells: pd.DataFrame, notes: list) -> pd.DataFrame:
         frame = pd.DataFrame()
     else:
         frame = cells.iloc[index + 1:].reset_index(drop=True)
-        frame.columns = _unique_headers(cells.iloc[index].tolist())
+        header = cells.iloc[index].tolist()
+        notes.extend(header_line_notes(header, index + 1))
+        frame.columns = column_labels([join_header_lines(cell) for cell in header])
     frame.attrs["header_row"] = index + 1
     return frame
 

@@ -14,6 +14,7 @@ first data row is row 2, unless title rows stand above the header (see
 from __future__ import annotations
 
 import io
+import re
 import sys
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -40,16 +41,10 @@ from molid.io.checks import (
     inputs_in_use,
 )
 from molid.io.defaults import fill_defaults
-from molid.io.header_row import (
-    choose_sheet,
-    find_header_line,
-    frame_below_header,
-    header_index,
-    sheet_note,
-    title_note,
-)
+from molid.io.delimited import count_rows, find_layout, frames, raise_first_error, text_head
+from molid.io.encodings import blocks_of, detect_encoding
+from molid.io.header_row import choose_sheet, frame_below_header, header_index, sheet_note
 from molid.io.headers import (
-    HEADER_SEARCH_ROWS,
     measured_units,
     parse_header,
     resolve_headers,
@@ -58,6 +53,7 @@ from molid.io.headers import (
 from molid.io.problems import InputError, RowProblems
 from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.vessel_column import load_vessels, look_up_vessels, share_vessel_volumes, vessel_rows
+from molid.io.workbooks import Workbook, looks_like_workbook
 
 __all__ = [
     "RunIds",
@@ -188,27 +184,8 @@ class RunTable:
                            count=len(self.errors))
 
 
-def _decode(data: bytes, notes: list) -> str:
-    try:
-        return data.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        notes.append(
-            "the file is not valid UTF-8; it was read as Windows-1252 (save it as UTF-8 to be sure "
-            "names and units arrive as written)"
-        )
-        return data.decode("cp1252", errors="replace")
-
-
-def sniff_separator(text: str) -> str:
-    for line in text.splitlines():
-        if line.strip():
-            counts = {sep: line.count(sep) for sep in (";", ",", "\t")}
-            best = max(counts, key=counts.get)
-            return best if counts[best] else ","
-    return ","
-
-
-def read_raw(source, *, sheet=None, find_sheet: bool = False) -> tuple[pd.DataFrame, bool, list, str]:
+def read_raw(source, *, sheet=None, find_sheet: bool = False,
+             keep_bad_lines: bool = False) -> tuple[pd.DataFrame, bool, list, str]:
     """Read a run file into a table of text cells, from its header row down.
 
     Parameters
@@ -223,6 +200,11 @@ def read_raw(source, *, sheet=None, find_sheet: bool = False) -> tuple[pd.DataFr
         For a run file: when no sheet is named and the first has no header row naming the
         required columns, read the only other sheet that has one (with a note). Other
         files (answer keys, water fills) keep to the first sheet.
+    keep_bad_lines : bool
+        Keep the lines of a text file that do not fit its header as rows of empty cells,
+        their problems in ``attrs["line_problems"]`` (see :func:`molid.io.delimited.frames`),
+        for a caller that reports them row by row (:func:`parse_runs` does). By default the
+        first such line stops the file with a message naming its row.
 
     Returns
     -------
@@ -247,19 +229,19 @@ def read_raw(source, *, sheet=None, find_sheet: bool = False) -> tuple[pd.DataFr
         raw.columns = [str(column) for column in raw.columns]
         raw = raw.astype(object).where(raw.notna(), "").astype(str)
         attrs = source.attrs
+        raw.attrs = dict(attrs)
         return (raw, bool(attrs.get("decimal_comma", False)), list(attrs.get("notes", [])),
                 attrs.get("source", "data frame"))
     data, name = _read_bytes(source)
     if not data.strip():
         raise InputError(f"{name}: the file is empty; expected a header row and data rows")
-    if data[:4] == b"PK\x03\x04":  # a zip archive: an .xlsx workbook
+    if looks_like_workbook(data, name):
         raw, decimal_comma = _read_workbook(data, name, sheet, notes, find_sheet), False
     else:
         if sheet is not None:
             raise InputError(f"{name}: sheet '{sheet}' asked for, but the file is text (CSV), "
                              "not an .xlsx workbook")
-        text = _decode(data, notes)
-        raw, separator = _read_text(text, name, notes)
+        raw, separator = _read_text(data, name, notes, keep_bad_lines, find_sheet)
         decimal_comma = separator in (";", "\t")
     # what a later read_raw of this frame needs to read it the same way
     raw.attrs.update(source=name, notes=list(notes), decimal_comma=decimal_comma)
@@ -285,70 +267,53 @@ def _read_bytes(source) -> tuple[bytes, str]:
         raise InputError(f"{name}: cannot read it ({error.strerror})") from None
     if isinstance(data, str):
         data = data.encode("utf-8")
-    return data, name
+    return data, str(name)
 
 
 def _read_workbook(data: bytes, name: str, sheet, notes: list, find_sheet: bool) -> pd.DataFrame:
     """Read a workbook's sheet as text cells under its header row (see :func:`read_raw` for ``sheet``)."""
-    try:
-        book = pd.ExcelFile(io.BytesIO(data))
-        names = [str(each) for each in book.sheet_names]
+    with Workbook(data, name) as book:
+        names = book.sheet_names
+        if not names:
+            raise InputError(f"{name}: the workbook has no sheets")
         chosen = choose_sheet(names, sheet, name) if sheet is not None else names[0]
-        cells = _sheet_cells(book, chosen)
+        cells = book.cells(chosen)
         if find_sheet and sheet is None and len(names) > 1 and header_index(cells) is None:
             with_header = [other for other in names[1:]
-                           if header_index(_sheet_cells(book, other, rows=True)) is not None]
+                           if header_index(book.first_rows(other)) is not None]
             if len(with_header) == 1:
                 chosen = with_header[0]
-                cells = _sheet_cells(book, chosen)
+                cells = book.cells(chosen)
                 notes.append(sheet_note(chosen, names[0]))
-    except InputError:
-        raise
-    except Exception as error:  # openpyxl raises many kinds for damaged files
-        raise InputError(f"{name}: cannot read it as an .xlsx workbook ({error})") from None
     raw = frame_below_header(cells, notes)
     raw.attrs["sheet"] = chosen
     return raw
 
 
-def _sheet_cells(book, sheet: str, rows: bool = False) -> pd.DataFrame:
-    """Read a sheet's cells as text, "" where blank, without a header (with ``rows``, the search rows)."""
-    cells = book.parse(sheet, header=None, dtype=str, nrows=HEADER_SEARCH_ROWS if rows else None)
-    return cells.fillna("")
-
-
-def _read_text(text: str, name: str, notes: list) -> tuple[pd.DataFrame, str]:
-    """Read delimited text from its header line down; the separator is the one that splits the header."""
-    found = find_header_line(text)
-    if found is None:  # no recognisable header: the first line is the header, as written
-        separator = sniff_separator(text)
-        raw = _read_csv(text, separator, name)
-        raw.attrs["header_row"] = 1
-        return raw, separator
-    if found.index:
-        notes.append(title_note(found.index + 1, found.titles))
-    raw = _read_csv(text[found.offset:], found.separator, name)
-    raw.attrs["header_row"] = found.index + 1
-    return raw, found.separator
-
-
-def _read_csv(text: str, separator: str, name: str) -> pd.DataFrame:
-    """Read delimited text as text cells, keeping blank lines so rows keep their spreadsheet numbers."""
-    try:
-        raw = pd.read_csv(
-            io.StringIO(text),
-            sep=separator,
-            dtype=str,
-            keep_default_na=False,
-            skip_blank_lines=False,
-            skipinitialspace=True,
-        )
-    except pd.errors.EmptyDataError:
-        raise InputError(f"{name}: no header row found") from None
-    except (pd.errors.ParserError, ValueError) as error:
-        raise InputError(f"{name}: cannot read it as CSV ({error})") from None
-    raw.columns = [str(column) for column in raw.columns]
-    return raw
+def _read_text(data: bytes, name: str, notes: list, keep_bad_lines: bool,
+               run_file: bool) -> tuple[pd.DataFrame, str]:
+    """Read delimited text from its header row down, as the large-file reader reads it."""
+    encoding = detect_encoding(blocks_of(data), name, count_rows)
+    text = data.decode(encoding.codec)
+    if not text.strip():
+        raise InputError(f"{name}: the file is empty; expected a header row and data rows")
+    notes.extend(encoding.notes)
+    layout = find_layout(text_head(text, complete=True), run_file)
+    notes.extend(layout.notes)
+    parts, problems, start = [], {}, 0
+    for part in frames(io.StringIO(text, newline=""), layout):
+        if not keep_bad_lines:
+            raise_first_error(part, name)
+        problems.update({start + position: problem
+                         for position, problem in part.attrs.get("line_problems", {}).items()})
+        parts.append(part)
+        start += len(part)
+    raw = pd.concat(parts, ignore_index=True) if parts else \
+        pd.DataFrame({label: pd.Series([], dtype="str") for label in layout.labels})
+    raw.attrs = {"header_row": layout.header_row}
+    if problems:
+        raw.attrs["line_problems"] = problems
+    return raw, layout.separator
 
 
 def first_uses(raw: pd.DataFrame, registry: RunIds, first_row: int) -> np.ndarray:
@@ -416,15 +381,11 @@ def parse_runs(
     register = load_vessels(vessels)
     notes = list(notes or [])
     by_name = resolve_headers(raw.columns, source, notes)
-    blank = blank_rows(raw)
-    row_numbers = np.arange(first_row, first_row + len(raw))[~blank]
-    raw = raw.loc[~blank].reset_index(drop=True)
-    if len(raw) == 0 and require_rows:
-        raise InputError(f"{source}: the file has a header but no data rows")
+    raw, row_numbers, kept, bad_lines = _rows_to_read(raw, first_row, require_rows, source)
     problems = RowProblems(row_numbers)
     text = text_columns(raw, by_name)
     if first_use_of_rows is not None:  # duplicates already found by the caller, row by row
-        first_use = np.asarray(first_use_of_rows)[~blank]
+        first_use = np.asarray(first_use_of_rows)[kept]
     else:
         registry = seen_runs if seen_runs is not None else RunIds()
         first_use = registry.check(text["run"].to_numpy(dtype=object), row_numbers)
@@ -432,15 +393,64 @@ def parse_runs(
     check_methods(text["method"], column_text(raw, by_name["method"]), problems)
     wet = check_wet(text["method"], read_wet(raw, by_name, problems), problems)
     # Units before cells: an unknown unit stops the file before any row is judged.
-    units = measured_units(by_name, source)
+    units = _absolute_temperatures(measured_units(by_name, source), by_name, source)
     values, given, uncertainties, shared = _measured_values(
         raw, by_name, units, decimal_comma, profile, register, problems, notes, source, text["method"])
     check_ranges(values, units, by_name, text, problems)
+    _report_bad_lines(bad_lines, problems, notes)
     return RunTable(
         raw=raw, row_numbers=row_numbers, text=text, wet=wet, values=values,
         uncertainties=uncertainties, shared_uncertainties=shared, given=given,
         errors=problems.errors, warnings=problems.warnings, notes=notes, units=units, source=source,
     )
+
+
+def _rows_to_read(raw: pd.DataFrame, first_row: int, require_rows: bool, source: str):
+    """Drop the blank rows, keeping a malformed line (its cells empty) for its problem to be reported.
+
+    Returns the rows kept, their spreadsheet rows, the mask of rows kept and the problems
+    of malformed lines by their position among the rows kept (see
+    :func:`molid.io.delimited.frames`).
+    """
+    line_problems = raw.attrs.get("line_problems", {})
+    blank = np.array(blank_rows(raw), dtype=bool)  # a copy: the frame's own array is read-only
+    if line_problems:
+        blank[list(line_problems)] = False
+    kept = ~blank
+    row_numbers = np.arange(first_row, first_row + len(raw))[kept]
+    positions = {old: new for new, old in enumerate(np.flatnonzero(kept))}
+    bad_lines = {positions[old]: problem for old, problem in line_problems.items()}
+    raw = raw.loc[kept].reset_index(drop=True)
+    raw.attrs.pop("line_problems", None)
+    if len(raw) == 0 and require_rows:
+        raise InputError(f"{source}: the file has a header but no data rows")
+    return raw, row_numbers, kept, bad_lines
+
+
+def _report_bad_lines(bad_lines: dict, problems: RowProblems, notes: list) -> None:
+    """Give each malformed line its own problem: an error replaces what its empty cells caused."""
+    for index, (kind, message) in sorted(bad_lines.items()):
+        if kind == "error":
+            problems.errors[index] = [f"row {problems.row_numbers[index]}, {message}"]
+            problems.warnings[index] = []
+        elif kind == "warning":
+            problems.warnings[index] = [message, *problems.warnings[index]]
+        elif message not in notes:
+            notes.append(message)
+
+
+_DIFFERENCE_UNIT = re.compile(r"^\s*(delta|\u0394|\u2206)", re.IGNORECASE)
+
+
+def _absolute_temperatures(units: dict, by_name: dict, source: str) -> dict:
+    """Refuse a temperature difference unit (delta_degC, Δ°C) for a temperature: it has no zero point."""
+    for name, unit in units.items():
+        if unit.kind == "temperature" and name in by_name and _DIFFERENCE_UNIT.match(unit.text):
+            raise InputError(
+                f"{source}: column '{by_name[name].original}': '{unit.text}' is a unit of temperature "
+                "difference, which says nothing of where zero is; give the temperature in degC, K or "
+                "degF (a difference unit is right for an uncertainty column such as u_temperature)")
+    return units
 
 
 def _measured_values(raw, by_name, units, decimal_comma, profile, register, problems, notes, source,
@@ -495,6 +505,6 @@ def read_runs(source, *, profile: InstrumentProfile | str | Path | None = None,
     """
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
-    raw, decimal_comma, notes, name = read_raw(source, sheet=sheet, find_sheet=True)
+    raw, decimal_comma, notes, name = read_raw(source, sheet=sheet, find_sheet=True, keep_bad_lines=True)
     return parse_runs(raw, decimal_comma=decimal_comma, profile=profile, notes=notes, source=name,
                       vessels=vessels, first_row=int(raw.attrs.get("header_row", 1)) + 1)

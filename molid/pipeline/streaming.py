@@ -11,7 +11,6 @@ per-run CSV has no place for samples; the JSON and terminal outputs of
 
 from __future__ import annotations
 
-import codecs
 import os
 import sys
 import time
@@ -19,16 +18,16 @@ from collections import deque
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import pandas as pd
-
-from molid.io.header_row import find_header_line, title_note
+from molid.io.delimited import HEAD_CHARACTERS, Layout, count_rows, find_layout, frames, text_head
+from molid.io.encodings import blocks_of_file, detect_encoding, text_stream
+from molid.io.headers import resolve_headers
 from molid.io.problems import InputError
 from molid.io.profiles import InstrumentProfile, load_profile
-from molid.io.reading import RunIds, first_uses, parse_runs, sniff_separator
+from molid.io.reading import RunIds, first_uses, parse_runs
 from molid.io.safe_files import atomic_output
 from molid.pipeline.identify import identify
 
-__all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv"]
+__all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv", "stop_pool"]
 
 #: Rows per chunk: large enough that numpy's per-call overhead is small, small
 #: enough that a chunk's candidate arrays (rows × about 100 candidates) stay in
@@ -58,19 +57,6 @@ def count_data_lines(path) -> int:
             lines += block.count(b"\n")
             last = block[-1:]
     return max(lines - 1 + (last != b"\n"), 0)
-
-
-def _check_utf8(path) -> str:
-    """'utf-8-sig' when the file decodes as UTF-8, else 'cp1252' (a note says so)."""
-    decoder = codecs.getincrementaldecoder("utf-8")()
-    with open(path, "rb") as stream:
-        try:
-            while block := stream.read(1 << 24):
-                decoder.decode(block)
-            decoder.decode(b"", final=True)
-        except UnicodeDecodeError:
-            return "cp1252"
-    return "utf-8-sig"
 
 
 def _merge_notes(collected: dict) -> list:
@@ -162,35 +148,35 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
 
 @dataclass
 class _ChunkPlan:
-    """How to read a run file in chunks: its encoding, separator, header row and chunk size.
+    """How to read a run file in chunks: its encoding, layout (separator, header row) and chunk size.
 
     ``notes`` collects the file's notes in the order they are first met (a dict
-    used as an ordered set): the encoding note first, then each chunk's.
-    ``header_row`` is the header's line (counting from 1): lines above it are titles.
+    used as an ordered set): the encoding's and the layout's first, then each chunk's.
     """
 
     path: Path
     encoding: str
-    separator: str
+    layout: Layout
     chunk_rows: int
     notes: dict
-    header_row: int = 1
 
     @property
     def decimal_comma(self) -> bool:
         """Whether numbers use a decimal comma (the file is semicolon- or tab-separated)."""
-        return self.separator in (";", "\t")
+        return self.layout.separator in (";", "\t")
 
     def reader(self):
-        """Open the file as an iterator of DataFrame chunks of text cells."""
-        return pd.read_csv(self.path, sep=self.separator, dtype=str, keep_default_na=False,
-                           skip_blank_lines=False, skipinitialspace=True,
-                           encoding=self.encoding, chunksize=self.chunk_rows,
-                           skiprows=self.header_row - 1)
+        """Iterate over the file's data rows as frames of text cells, ``chunk_rows`` at a time.
+
+        The rows are split by :func:`molid.io.delimited.frames`, as the in-memory reader
+        splits them, so a malformed line is the same row problem in both.
+        """
+        with text_stream(self.path, self.encoding) as stream:
+            yield from frames(stream, self.layout, self.chunk_rows)
 
 
 def _plan_chunks(path, chunk_rows) -> _ChunkPlan:
-    """Check the file can be read and find its encoding and separator from its start."""
+    """Check the file can be read and find its encoding and layout from its start."""
     try:
         with open(path, "rb") as stream:
             head = stream.read(1 << 16)
@@ -200,17 +186,15 @@ def _plan_chunks(path, chunk_rows) -> _ChunkPlan:
         raise InputError(f"{path}: cannot read it ({error.strerror})") from None
     if not head.strip():
         raise InputError(f"{path}: the file is empty; expected a header row and data rows")
-    encoding = _check_utf8(path)
-    notes: dict = {}
-    if encoding == "cp1252":
-        notes["the file is not valid UTF-8; it was read as Windows-1252"] = None
-    text = head.decode(encoding, errors="replace")
-    found = find_header_line(text)  # the same header row the in-memory reader finds
-    if found is None:
-        return _ChunkPlan(path, encoding, sniff_separator(text), chunk_rows, notes)
-    if found.index:
-        notes[title_note(found.index + 1, found.titles)] = None
-    return _ChunkPlan(path, encoding, found.separator, chunk_rows, notes, found.index + 1)
+    encoding = detect_encoding(blocks_of_file(path), str(path), count_rows)
+    with text_stream(path, encoding.codec) as stream:
+        text = stream.read(HEAD_CHARACTERS + 1)
+    if not text.strip():
+        raise InputError(f"{path}: the file is empty; expected a header row and data rows")
+    layout = find_layout(text_head(text, complete=len(text) <= HEAD_CHARACTERS))
+    resolve_headers(layout.labels, str(path))  # as the in-memory reader: a header problem first
+    notes = dict.fromkeys([*encoding.notes, *layout.notes])
+    return _ChunkPlan(path, encoding.codec, layout, chunk_rows, notes)
 
 
 def _chunk_jobs(plan, reader):
@@ -221,12 +205,10 @@ def _chunk_jobs(plan, reader):
     used; :class:`~molid.io.reading.RunIds` keeps about 24 bytes per id seen.
     """
     seen = RunIds()
-    first_row = plan.header_row + 1  # rows keep their spreadsheet numbers below any title lines
     for raw in reader:
-        raw.columns = [str(column) for column in raw.columns]
+        first_row = raw.attrs["first_row"]  # rows keep their spreadsheet numbers below any titles
         first_use = first_uses(raw, seen, first_row)
         yield (raw, plan.decimal_comma, first_row, first_use, str(plan.path))
-        first_row += len(raw)
 
 
 class _OrderedAppender:
@@ -264,18 +246,32 @@ def _write_chunks(plan, output, appender, workers, profile, library) -> None:
             reader = plan.reader()
             if workers > 1:
                 pool = _start_pool(workers, profile, library)
-            try:
-                _analyse_in_order(_chunk_jobs(plan, reader), pool, workers, appender, profile,
-                                  library)
-            except pd.errors.EmptyDataError:
-                raise InputError(f"{plan.path}: no header row found") from None
-            except pd.errors.ParserError as error:
-                raise InputError(f"{plan.path}: cannot read it as CSV ({error})") from None
+            _analyse_in_order(_chunk_jobs(plan, reader), pool, workers, appender, profile, library)
             if appender.summary.runs == 0:
                 raise InputError(f"{plan.path}: the file has a header but no data rows")
+    except BaseException:
+        stop_pool(pool, now=True)  # interrupted or failed: end the workers at once
+        pool = None
+        raise
     finally:
-        if pool is not None:
-            pool.shutdown(wait=True, cancel_futures=True)
+        stop_pool(pool)
+
+
+def stop_pool(pool, now: bool = False) -> None:
+    """Stop a worker pool: after its running chunks, or with ``now`` at once (an interruption).
+
+    Ending the worker processes at once leaves none behind a SIGINT or SIGTERM; the
+    pool is then shut down so its manager thread and pipes are gone too.
+    """
+    if pool is None:
+        return
+    if now:
+        # ProcessPoolExecutor has no public way to end a running task; its processes are
+        # in ``_processes`` (pid → multiprocessing.Process) since Python 3.2.
+        for process in list((getattr(pool, "_processes", None) or {}).values()):
+            if process.is_alive():
+                process.terminate()
+    pool.shutdown(wait=True, cancel_futures=True)
 
 
 def _analyse_in_order(jobs, pool, workers, collect, profile, library) -> None:
@@ -310,7 +306,13 @@ _WORKER_STATE: dict = {}
 
 def _initialise_worker(profile, library):
     import gc
+    import signal
 
+    # A Ctrl-C reaches every process of the terminal's group: the parent alone handles it
+    # (and ends the workers); SIGTERM from the parent ends a worker at once, whatever
+    # handler it inherited from the command line.
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
     _WORKER_STATE["profile"] = profile
     _WORKER_STATE["library"] = library
     # The loaded modules and library live as long as the worker: keep them out of the
