@@ -8,6 +8,7 @@ error by itself: whether a value is required is the caller's business.
 from __future__ import annotations
 
 import re
+import unicodedata
 
 import numpy as np
 import pandas as pd
@@ -23,6 +24,7 @@ __all__ = [
     "blank_rows",
     "column_text",
     "parse_numbers",
+    "cell_hint",
     "method_names",
     "text_columns",
     "read_wet",
@@ -101,6 +103,45 @@ def parse_numbers(column: pd.Series, decimal_comma: bool) -> tuple[np.ndarray, n
     # "nan" parses as NaN; a user who typed it gave no number, so it counts as bad
     not_number = ~blank & np.isnan(values)
     return values, blank, not_number
+
+
+_NUMBER_THEN_TEXT = re.compile(r"^\s*[+-]?(\d+[.,]?\d*|[.,]\d+)([eE][+-]?\d+)?"
+                               r"\s*(?P<unit>[^\d\s.,+-].*?)\s*$")
+
+
+def cell_hint(text: str, unit: str) -> str:
+    """Say why a cell that looks like a number is not one: a unit typed in it, or a character unseen.
+
+    Parameters
+    ----------
+    text : str
+        The cell as written.
+    unit : str
+        The column's unit, as the message names it.
+
+    Returns
+    -------
+    str
+        A parenthesised hint starting with a space, or "" when there is none to give.
+
+    Examples
+    --------
+    >>> cell_hint("\u221221.5", "degC")
+    ' (it holds U+2212 MINUS SIGN, which a number cannot hold; type it again with the keyboard)'
+    >>> cell_hint("21.5 °C", "K")
+    " (a unit goes in the header, e.g. 'name [°C]', not in the cell)"
+    """
+    odd = [character for character in dict.fromkeys(text.strip()) if not " " <= character <= "~"]
+    match = _NUMBER_THEN_TEXT.match(text)
+    if match and not any(unicodedata.category(character).startswith(("C", "Z")) for character in odd):
+        if match["unit"] == unit:
+            return " (write the number alone: the header gives the unit)"
+        return f" (a unit goes in the header, e.g. 'name [{match['unit']}]', not in the cell)"
+    if not odd:
+        return ""
+    named = ", ".join(f"U+{ord(character):04X} {unicodedata.name(character, 'a control character')}"
+                      for character in odd[:3])
+    return f" (it holds {named}, which a number cannot hold; type it again with the keyboard)"
 
 
 def _fast_floats(text: pd.Series, blank: np.ndarray):
@@ -251,6 +292,7 @@ def _read_measured_column(raw: pd.DataFrame, header: Header, unit: ColumnUnit, d
             f"expected a number in {unit.text}"
             + (" (a decimal comma works in semicolon- or tab-separated files only)"
                if not decimal_comma and "," in str(original[i]) else "")
+            + cell_hint(str(original[i]), unit.text)
         ),
     )
     infinite = np.isinf(numbers)
@@ -311,7 +353,7 @@ def _read_uncertainty_column(raw: pd.DataFrame, column: UncertaintyColumn, decim
         not_number | np.isinf(numbers),
         lambda i: (
             f"column '{header.original}': '{original[i]}' is not a finite number; "
-            f"expected a standard uncertainty in {unit.text}"
+            f"expected a standard uncertainty in {unit.text}" + cell_hint(str(original[i]), unit.text)
         ),
     )
     negative = numbers < 0
