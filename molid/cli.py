@@ -1,4 +1,4 @@
-"""Command line: ``molid identify``, ``library``, ``grade``, ``report``, ``calibrate`` and ``columns``.
+"""Command line: the molid commands identify, library, grade, report, calibrate, columns and template.
 
 A thin layer over the library. Exit status: 0 when every row was analysed, 1 when
 some rows had errors (reported; every other row still analysed), 2 for a usage
@@ -100,6 +100,21 @@ def _add_quality(parser):
                         "the guard band U (default), or simple acceptance")
 
 
+def _add_template(commands, parser):
+    """Add the template command; return the whole parser (build_parser ends with it)."""
+    template = commands.add_parser(
+        "template", help="write a blank run sheet for a method",
+        description="Write a blank run sheet for a method: its columns with units and one example "
+        "row (not a run: replace it). A workbook also has a drop-down list of methods and a comment "
+        "on each header giving its meaning and unit.",
+    )
+    template.add_argument("method", help="the method, e.g. evacuated-bulb (an unknown name lists them)")
+    template.add_argument("-o", "--output", metavar="FILE",
+                          help="write a .xlsx or .csv file (default: CSV to stdout)")
+    template.add_argument("--force", action="store_true", help="replace an existing file")
+    return parser
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Build the argument parser (exposed for documentation and tests)."""
     parser = _Parser(
@@ -179,7 +194,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_sheet(columns)
     columns.add_argument("--profile", metavar="TOML",
                          help="instrument profile giving default uncertainties (see README)")
-    return parser
+    return _add_template(commands, parser)
 
 
 def _load_library(args):
@@ -391,8 +406,17 @@ def _columns(args) -> int:
     return EXIT_OK
 
 
+def _template(args) -> int:
+    from molid.io.templates import write_template
+
+    path = write_template(args.method, args.output, force=args.force, stream=sys.stdout)
+    if path is not None:
+        print(f"wrote {path}", file=sys.stderr)
+    return EXIT_OK
+
+
 _HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report,
-             "calibrate": _calibrate, "columns": _columns}
+             "calibrate": _calibrate, "columns": _columns, "template": _template}
 
 
 def main(argv=None) -> int:

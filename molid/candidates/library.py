@@ -31,6 +31,7 @@ import numpy as np
 import pandas as pd
 from periodictable.formulas import from_subscript
 
+from molid.cache import content_key, read_document, write_document
 from molid.physics.formulas import hill_formula, molar_mass
 from molid.physics.virial import POLAR_CLASSES
 
@@ -304,8 +305,13 @@ def _check_cas_numbers(table, problems):
             first_row_of_cas[cas] = row
 
 
-def _resolve_formulas(table, numbers, problems):
-    """Find the Hill formula and molar mass [kg/mol] of each row; only a mixture types its molar mass."""
+def _resolve_formulas(table, numbers, problems, known=None):
+    """Find the Hill formula and molar mass [kg/mol] of each row; only a mixture types its molar mass.
+
+    ``known`` maps a formula as written to its Hill formula and molar mass from an earlier
+    parse (the user cache); formulas parsed here are added to it.
+    """
+    known = {} if known is None else known
     hill = []
     mass = numbers["molar_mass_g_per_mol"] * 1e-3
     given_mass = np.isfinite(numbers["molar_mass_g_per_mol"])
@@ -322,8 +328,10 @@ def _resolve_formulas(table, numbers, problems):
                 )
             continue
         try:
-            hill.append(hill_formula(formula))
-            formula_mass = molar_mass(formula)
+            if formula not in known:
+                known[formula] = (hill_formula(formula), molar_mass(formula))
+            formula_hill, formula_mass = known[formula]
+            hill.append(formula_hill)
         except ValueError as error:
             hill.append("")
             problems.add(
@@ -431,12 +439,12 @@ def _library_frame(table, numbers, origin, *, hill, mass, has_critical, polar, d
     )
 
 
-def _parse_table(table, source, origin):
+def _parse_table(table, source, origin, known_formulas=None):
     """Validate a text table of library rows and convert it to SI; raise LibraryError.
 
     A faulty header is reported on its own, since the rows cannot be read
     without it; otherwise every problem in the rows is collected first, so that
-    one error lists them all.
+    one error lists them all. ``known_formulas``: see :func:`_resolve_formulas`.
     """
     problems = _Problems()
     columns = [str(column).strip() for column in table.columns]
@@ -446,7 +454,7 @@ def _parse_table(table, source, origin):
     numbers = _parse_numbers(table, problems)
     _check_names(table, problems)
     _check_cas_numbers(table, problems)
-    hill, mass = _resolve_formulas(table, numbers, problems)
+    hill, mass = _resolve_formulas(table, numbers, problems, known_formulas)
     has_critical = _check_critical_data(table, numbers, problems)
     polar, dipole = _resolve_polar_classes(table, numbers, has_critical, problems)
     problems.raise_if_any(source)
@@ -454,9 +462,44 @@ def _parse_table(table, source, origin):
                           polar=polar, dipole=dipole)
 
 
+def _formula_cache_name(path):
+    """Name the user-cache document of a library file's formulas, or None when it cannot be read.
+
+    The name carries a hash of the file's bytes, periodictable's version and the code of
+    :mod:`molid.physics.formulas`, so any change to what the formulas' Hill forms and molar
+    masses depend on misses the cache.
+    """
+    import periodictable
+
+    from molid.physics import formulas
+
+    try:
+        data = Path(path).read_bytes()
+        code = Path(formulas.__file__).read_bytes()
+    except OSError:
+        return None
+    return f"formulas-{content_key(data, periodictable.__version__, code)}.json"
+
+
 def _read_library_file(path, origin):
+    """Read, validate and convert a library file, its formulas' Hill forms and molar masses cached.
+
+    The molar masses are periodictable's, computed once per library file and kept in the
+    user cache (:mod:`molid.cache`) as JSON, which gives every float back to the last bit.
+    """
     path = Path(path)
-    return _parse_table(_read_csv(path), str(path), origin)
+    name = _formula_cache_name(path)
+    cached = read_document(name) if name else None
+    known = {}
+    if isinstance(cached, dict):
+        known = {text: (entry[0], entry[1]) for text, entry in cached.items()
+                 if isinstance(entry, list) and len(entry) == 2 and isinstance(entry[0], str)
+                 and isinstance(entry[1], float)}
+    found = len(known)
+    library = _parse_table(_read_csv(path), str(path), origin, known)
+    if name and len(known) > found:
+        write_document(name, {text: list(entry) for text, entry in known.items()})
+    return library
 
 
 @functools.lru_cache(maxsize=4)

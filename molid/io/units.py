@@ -6,16 +6,21 @@ happens once, here, at the edge of the library; everything downstream works in
 kg, m³, K, Pa and plain fractions.
 
 The pint registry is built lazily on first use so that commands which never read
-a file (``molid --help``) do not pay for it.
+a file (``molid --help``) do not pay for it, and a unit once resolved is kept in the
+user cache (:mod:`molid.cache`), so that later processes need not import pint at all.
 """
 
 from __future__ import annotations
 
 import functools
+import os
 import re
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
+
+from molid.cache import content_key, read_document, write_document
 
 __all__ = [
     "DEFAULT_UNITS",
@@ -137,6 +142,37 @@ class ColumnUnit:
         return self.scale
 
 
+def _unit_cache_name() -> str | None:
+    """Name the user-cache document of resolved units, or None when pint's files are not found.
+
+    The name carries a hash of this module's code (its spellings and dimensions), pint's
+    installed version and its unit definition files, so a change to any of them misses
+    the cache.
+    """
+    import importlib.util
+
+    spec = importlib.util.find_spec("pint")
+    if spec is None or not spec.submodule_search_locations:
+        return None
+    package = Path(spec.submodule_search_locations[0])
+    try:
+        parts = [Path(__file__).read_bytes(),
+                 " ".join(sorted(entry.name for entry in os.scandir(package.parent)
+                                 if entry.name.startswith("pint-") and entry.name.endswith(".dist-info")))]
+        parts += [(package / name).read_bytes() for name in ("default_en.txt", "constants_en.txt")]
+    except OSError:
+        return None
+    return f"units-{content_key(*parts)}.json"
+
+
+@functools.lru_cache(maxsize=1)
+def _cached_units() -> tuple:
+    """Return the cache document's name and its units (``"kind:text"`` → [scale, offset]), read once."""
+    name = _unit_cache_name()
+    document = read_document(name) if name else None
+    return name, document if isinstance(document, dict) else {}
+
+
 @functools.lru_cache(maxsize=256)
 def resolve_unit(kind: str, text: str | None) -> ColumnUnit:
     """Parse a unit for a column of the given kind.
@@ -157,8 +193,27 @@ def resolve_unit(kind: str, text: str | None) -> ColumnUnit:
     ------
     UnitProblem
         When pint does not know the unit or it is not of the column's kind.
+
+    Notes
+    -----
+    Importing pint costs more than the rest of a one-run analysis, so a unit pint has
+    resolved once is kept in the user cache (:mod:`molid.cache`): its scale and offset,
+    which JSON gives back to the last bit. Units pint refuses are not kept.
     """
     text = (text or "").strip() or DEFAULT_UNITS[kind]
+    name, known = _cached_units()
+    entry = known.get(f"{kind}:{text}")
+    if isinstance(entry, list) and len(entry) == 2 and all(isinstance(number, float) for number in entry):
+        return ColumnUnit(kind=kind, text=text, scale=entry[0], offset=entry[1])
+    unit = _resolve_with_pint(kind, text)
+    known[f"{kind}:{text}"] = [unit.scale, unit.offset]
+    if name:
+        write_document(name, known)
+    return unit
+
+
+def _resolve_with_pint(kind: str, text: str) -> ColumnUnit:
+    """Resolve a unit (as written, not empty) of a column's kind with pint's registry."""
     normalized = _pint_name(text)
     ureg = registry()
     try:

@@ -50,7 +50,8 @@ def chi_square_p_value(chi_square, degrees_of_freedom):
     Returns
     -------
     numpy.ndarray
-        The upper-tail probability Q(ν/2, χ²/2), NaN where ν < 1.
+        The upper-tail probability Q(ν/2, χ²/2), NaN where ν < 1. Computed by scipy's
+        regularised upper incomplete gamma function, imported only when some ν ≥ 1.
 
     Examples
     --------
@@ -60,10 +61,14 @@ def chi_square_p_value(chi_square, degrees_of_freedom):
     >>> round(float(chi_square_p_value(3.841, 1)), 3)
     0.05
     """
-    from scipy.special import gammaincc
-
     chi_square = np.asarray(chi_square, dtype=float)
     degrees_of_freedom = np.asarray(degrees_of_freedom, dtype=float)
+    if not np.any(degrees_of_freedom >= 1):
+        # No sample has replicates: skip importing scipy, which costs more than the rest of a
+        # one-run analysis.
+        return np.full(np.broadcast(chi_square, degrees_of_freedom).shape, np.nan)
+    from scipy.special import gammaincc
+
     with np.errstate(invalid="ignore"):
         safe = np.where(degrees_of_freedom >= 1, degrees_of_freedom, 1.0)
         return np.where(degrees_of_freedom >= 1, gammaincc(safe / 2.0, chi_square / 2.0), np.nan)
