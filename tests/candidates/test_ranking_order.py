@@ -48,7 +48,7 @@ def test_excluded_candidates_follow_in_order_of_relative_difference():
 
 
 def test_demo_r134a_runners_up_are_near_in_molar_mass():
-    """Checks behaviour on invented demo data: under R-134a (102.03 g/mol) come halogenated gases near 100 g/mol.
+    """Checks behaviour on invented demo data: under R-134a (102.03 g/mol), halogenated gases near 100 g/mol.
 
     sample_runs/qa_cylinders.csv, CYL-2233 (R-134a from CoolProp densities). Molar masses from
     the IUPAC standard atomic weights (periodictable).
