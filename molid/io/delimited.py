@@ -120,11 +120,6 @@ class _Lines:
             self.taken.append(line)
         return line
 
-    def next_or_none(self) -> str | None:
-        if self._back:
-            return self._back.pop()
-        return self._stream.readline() or None
-
     def take(self, count: int) -> list:
         """Up to ``count`` lines (fewer at the end of the text)."""
         taken = []
@@ -140,11 +135,16 @@ class _Lines:
 
 @dataclass
 class _Block:
-    """Consecutive lines without quotes, split into cells at once (Arrow's string kernels)."""
+    """Consecutive records of one line each, split at once.
+
+    Lines without quotes are split by Arrow's string kernels (``parts``, a ListArray);
+    lines with quotes by the csv module in one call (``cells``, lists of str).
+    """
 
     start: int
     lines: list
-    parts: object  # pyarrow ListArray of the cells of each line
+    parts: object = None
+    cells: list | None = None
 
 
 class Rows:
@@ -158,8 +158,8 @@ class Rows:
     def __len__(self) -> int:
         return self.count
 
-    def add_block(self, lines: list, parts) -> None:
-        self.blocks.append(_Block(self.count, lines, parts))
+    def add_block(self, lines: list, parts=None, cells=None) -> None:
+        self.blocks.append(_Block(self.count, lines, parts, cells))
         self.count += len(lines)
 
     def add_record(self, record: Record) -> None:
@@ -170,8 +170,9 @@ class Rows:
         """Every record as a :class:`Record`, in order (for the first rows of a text)."""
         found = dict(self.records)
         for block in self.blocks:
-            for offset, (cells, line) in enumerate(zip(block.parts.to_pylist(), block.lines, strict=True)):
-                found[block.start + offset] = Record(cells, line)
+            cells = block.parts.to_pylist() if block.cells is None else block.cells
+            for offset, (row, line) in enumerate(zip(cells, block.lines, strict=True)):
+                found[block.start + offset] = Record(row, line)
         return [found[position] for position in range(self.count)]
 
 
@@ -222,29 +223,33 @@ class RecordReader:
             if not batch:
                 break
             if '"' not in "".join(batch):
-                rows.add_block(batch, self._split(batch))
+                rows.add_block(batch, parts=self._split(batch))
                 continue
-            lines.give_back(batch)
-            self._one_by_one(rows, len(rows) + len(batch))
+            done = self._quoted_lines(rows, batch)
+            lines.give_back(batch[done:])
+            if done < len(batch):
+                rows.add_record(self._quoted())
         return rows
 
-    def _one_by_one(self, rows: Rows, until: int) -> None:
-        """Read lines until ``until`` records: runs of lines without quotes in blocks, the others alone."""
-        lines, pending = self._lines, []
-        while len(rows) + len(pending) < until:
-            line = lines.next_or_none()
-            if line is None:
-                break
-            if '"' not in line:
-                pending.append(line)
-                continue
-            if pending:
-                rows.add_block(pending, self._split(pending))
-                pending = []
-            lines.give_back([line])
-            rows.add_record(self._quoted())
-        if pending:
-            rows.add_block(pending, self._split(pending))
+    def _quoted_lines(self, rows: Rows, batch: list) -> int:
+        """Split a batch with quotes in one call of the csv module, while each record is one line.
+
+        Stops before the first record that spans lines, fails, or reaches the batch's last
+        line (its quote may close in lines not yet read): :meth:`_quoted` reads that one with
+        care. Returns the lines read.
+        """
+        reader = csv.reader(batch, delimiter=self.separator, skipinitialspace=True, strict=False)
+        found, last = [], len(batch) - 1
+        try:
+            for cells in reader:
+                if reader.line_num != len(found) + 1 or len(found) == last:
+                    break
+                found.append(cells)
+        except csv.Error:
+            pass  # the careful reading of this record says what is wrong with it
+        if found:
+            rows.add_block(batch[:len(found)], cells=found)
+        return len(found)
 
     def _split(self, lines: list):
         """Split lines without quotes into cells, skipping spaces after a separator as csv does."""
@@ -257,6 +262,19 @@ class RecordReader:
             values = pc.utf8_ltrim(parts.flatten(), characters=" ")
             parts = type(parts).from_arrays(parts.offsets, values)
         return parts
+
+    def _well_formed(self, taken: list) -> bool:
+        """Whether a record spanning lines closes each quote just before a separator or a line's end.
+
+        RFC 4180 (2.5-2.7) quotes a whole cell; a quote that "closes" in the middle of a
+        cell is another line's quote, so the record's first quote was never closed.
+        """
+        try:
+            for _ in csv.reader(taken, delimiter=self.separator, skipinitialspace=True, strict=True):
+                pass
+        except csv.Error:
+            return False
+        return True
 
     def _quoted(self) -> Record:
         """Read one record that has a quote in it, with the csv module."""
@@ -272,7 +290,8 @@ class RecordReader:
         if failure:
             return Record([], text, failure=failure)
         spans = len(taken) > 1
-        if lines.ended or (spans and self.accept is not None and not self.accept(cells)):
+        if lines.ended or (spans and not (self._well_formed(taken)
+                                          and (self.accept is None or self.accept(cells)))):
             # The quote is never closed (or closes rows later, in another cell): read this
             # line alone, as if the quote closed at its end, and the lines after it again.
             lines.give_back(taken[1:])
@@ -430,17 +449,20 @@ def _likely_separator(tried: dict) -> tuple[str, int]:
 
 
 def _trailing_separator(header: list, samples: list) -> tuple[list, bool]:
-    """Recognise a separator after the last cell of every row: drop the empty cell it makes."""
+    """Recognise a separator after the last cell of most rows: drop the empty cell it makes.
+
+    Most of the first data rows, not all, decide it, so that one stray line among them
+    is reported as its own row instead of turning every row into one with a cell too many.
+    """
     width = len(header)
     if width > 1 and not header[-1].strip():
-        # the header ends with one too: a blank last column, unless a data row has a cell there
-        if all(len(cells) <= width and (len(cells) < width or not cells[-1].strip())
-               for cells in samples):
-            return header[:-1], True
-        return header, False
-    trailing = bool(samples) and all(len(cells) == width + 1 and not cells[-1].strip()
-                                     for cells in samples)
-    return header, trailing
+        # the header ends with one too: its blank last column is the separator's when most rows
+        # leave it empty (a row with a cell there is then a row with a cell too many)
+        fits = sum(len(cells) == width - 1 or (len(cells) == width and not cells[-1].strip())
+                   for cells in samples)
+        return (header[:-1], True) if 2 * fits > len(samples) else (header, False)
+    fits = sum(len(cells) == width + 1 and not cells[-1].strip() for cells in samples)
+    return header, bool(samples) and 2 * fits > len(samples)
 
 
 def _reads(label: str) -> bool:
@@ -501,7 +523,16 @@ def frame_from_rows(rows: Rows, layout: Layout, first_row: int) -> pd.DataFrame:
     width = layout.width
     pieces: list = [[] for _ in range(width)]
     positions, odd = [], dict(rows.records)
+    split_rows: dict = {}  # position -> cells, for records split by the csv module
     for block in rows.blocks:
+        if block.cells is not None:
+            for position, (cells, line) in enumerate(zip(block.cells, block.lines, strict=True),
+                                                     start=block.start):
+                if len(cells) == width:
+                    split_rows[position] = cells
+                else:
+                    odd[position] = Record(cells, line)
+            continue
         good, starts, values = _fitting_lines(block.parts, layout)
         for offset in np.flatnonzero(~good):
             odd[block.start + int(offset)] = Record(block.parts[int(offset)].as_py(), block.lines[offset])
@@ -510,18 +541,19 @@ def frame_from_rows(rows: Rows, layout: Layout, first_row: int) -> pd.DataFrame:
             for column in range(width):
                 pieces[column].append(values.take(pa.array(chosen + column)))
             positions.append(block.start + np.flatnonzero(good))
-    problems, cells = {}, []
+    problems = {}
     for position in sorted(odd):
         record = odd[position]
-        found, problem = (record.cells, None) if len(record.cells) == width and not record.unclosed \
-            and not record.failure else _judge(record, layout, first_row + position)
-        cells.append(found)
+        split_rows[position], problem = (record.cells, None) if len(record.cells) == width \
+            and not record.unclosed and not record.failure else _judge(record, layout, first_row + position)
         if problem is not None:
             problems[position] = problem
-    if odd:
-        positions.append(np.fromiter(sorted(odd), dtype=np.int64, count=len(odd)))
+    if split_rows:
+        ordered = sorted(split_rows)
+        positions.append(np.asarray(ordered, dtype=np.int64))
         for column in range(width):
-            pieces[column].append(pa.array([row[column] for row in cells], type=pa.large_string()))
+            pieces[column].append(pa.array([split_rows[position][column] for position in ordered],
+                                           type=pa.large_string()))
     order = np.argsort(np.concatenate(positions), kind="stable") if positions else np.zeros(0, int)
     frame = pd.DataFrame({label: _text_series(pieces[column], order)
                           for column, label in enumerate(layout.labels)}, index=range(len(rows)))
@@ -606,7 +638,7 @@ def _extra_hint(cells: list, width: int, separator: str) -> str:
     extra = cells[width:]
     if _is_blank(extra):
         return f" (it ends with {len(extra)} separator(s) too many)"
-    return ""
+    return f" (its cells after the last column read: {_shown(separator.join(extra))})"
 
 
 def count_rows(text: str) -> int:
