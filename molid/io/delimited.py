@@ -641,27 +641,54 @@ def _extra_hint(cells: list, width: int, separator: str) -> str:
     return f" (its cells after the last column read: {_shown(separator.join(extra))})"
 
 
-def count_rows(text: str) -> int:
+def count_rows(open_text) -> int:
     """Count the rows of a text: the spreadsheet row its next character would be in (1 when empty).
 
     Parameters
     ----------
-    text : str
-        The start of a file, decoded.
+    open_text : callable
+        Opens the text (the start of a file, before a byte that is not text) as a text
+        stream with ``newline=""``; called twice, for the layout and for the rows.
 
     Returns
     -------
     int
         Rows read in full, plus the row that is cut off (or begins) at the text's end.
     """
-    if not text:
+    with open_text() as stream:
+        head = stream.read(HEAD_CHARACTERS + 1)
+    if not head:
         return 1
-    separator = find_layout(text_head(text, complete=True), run_file=False).separator
+    separator = find_layout(text_head(head, len(head) <= HEAD_CHARACTERS), run_file=False).separator
     records = 0
-    reader = RecordReader(io.StringIO(text, newline=""), separator)
-    while rows := reader.read(_CHUNK):
-        records += len(rows)
-    return records + (1 if text.endswith(("\n", "\r")) else 0)
+    with open_text() as stream:
+        tail = _Tail(stream)
+        reader = RecordReader(tail, separator)
+        while rows := reader.read(_CHUNK):
+            records += len(rows)
+    return records + (1 if tail.last.endswith(("\n", "\r")) else 0)
+
+
+class _Tail:
+    """A text stream read by lines that remembers the last line it gave."""
+
+    def __init__(self, stream):
+        self._stream = stream
+        self.last = ""
+
+    def readline(self) -> str:
+        line = self._stream.readline()
+        self.last = line or self.last
+        return line
+
+    def __iter__(self):
+        return self
+
+    def __next__(self) -> str:
+        line = self.readline()
+        if not line:
+            raise StopIteration
+        return line
 
 
 def raise_first_error(frame: pd.DataFrame, name: str) -> None:

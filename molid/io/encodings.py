@@ -52,7 +52,7 @@ class TextEncoding:
 
 
 def detect_encoding(blocks: Callable[[], Iterable[bytes]], name: str,
-                    count_rows: Callable[[str], int]) -> TextEncoding:
+                    count_rows: Callable) -> TextEncoding:
     """Find a file's encoding by reading it through once (twice when it is not UTF-8).
 
     Parameters
@@ -63,7 +63,7 @@ def detect_encoding(blocks: Callable[[], Iterable[bytes]], name: str,
     name : str
         The file's name, for messages.
     count_rows : callable
-        Given the text before an offending byte, the spreadsheet row that byte is in.
+        The rows of a text before an offending byte (see :func:`row_of_offset`).
 
     Returns
     -------
@@ -108,7 +108,7 @@ def detect_encoding(blocks: Callable[[], Iterable[bytes]], name: str,
 
 
 def row_of_offset(blocks: Callable[[], Iterable[bytes]], offset: int, codec: str,
-                  count_rows: Callable[[str], int]) -> int:
+                  count_rows: Callable) -> int:
     """Find the spreadsheet row of the byte at ``offset`` from the rows of the text before it.
 
     Parameters
@@ -120,15 +120,41 @@ def row_of_offset(blocks: Callable[[], Iterable[bytes]], offset: int, codec: str
     codec : str
         Codec the bytes before it decode in.
     count_rows : callable
-        Rows of a text (see :func:`detect_encoding`).
+        Given a callable that opens the text before the byte (a fresh text stream each
+        call), its rows (see :func:`molid.io.delimited.count_rows`).
 
     Returns
     -------
     int
         The row, counting from 1.
     """
-    prefix = b"".join(_first_bytes(blocks(), offset))
-    return count_rows(prefix.decode(codec, errors="replace"))
+    def open_text():
+        raw = io.BufferedReader(_Prefix(_first_bytes(blocks(), offset)))
+        return io.TextIOWrapper(raw, encoding=codec, errors="replace", newline="")
+
+    return count_rows(open_text)
+
+
+class _Prefix(io.RawIOBase):
+    """The bytes of a stream of blocks as a file, read in pieces (the text before a bad byte)."""
+
+    def __init__(self, blocks: Iterable[bytes]):
+        self._blocks = iter(blocks)
+        self._left = b""
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer) -> int:
+        while not self._left:
+            self._left = next(self._blocks, None)
+            if self._left is None:
+                self._left = b""
+                return 0
+        count = min(len(buffer), len(self._left))
+        buffer[:count] = self._left[:count]
+        self._left = self._left[count:]
+        return count
 
 
 
