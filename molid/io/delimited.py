@@ -238,15 +238,23 @@ class RecordReader:
         line (its quote may close in lines not yet read): :meth:`_quoted` reads that one with
         care. Returns the lines read.
         """
+        last = len(batch) - 1
         reader = csv.reader(batch, delimiter=self.separator, skipinitialspace=True, strict=False)
-        found, last = [], len(batch) - 1
-        try:
-            for cells in reader:
-                if reader.line_num != len(found) + 1 or len(found) == last:
-                    break
-                found.append(cells)
+        try:  # the usual case first, in one call: every record one line
+            found = list(itertools.islice(reader, last))
+            clean = reader.line_num == len(found)
         except csv.Error:
-            pass  # the careful reading of this record says what is wrong with it
+            clean = False
+        if not clean:  # again, record by record, up to the first that spans lines or fails
+            reader = csv.reader(batch, delimiter=self.separator, skipinitialspace=True, strict=False)
+            found = []
+            try:
+                for cells in reader:
+                    if reader.line_num != len(found) + 1 or len(found) == last:
+                        break
+                    found.append(cells)
+            except csv.Error:
+                pass  # the careful reading of this record says what is wrong with it
         if found:
             rows.add_block(batch[:len(found)], cells=found)
         return len(found)
@@ -526,9 +534,16 @@ def frame_from_rows(rows: Rows, layout: Layout, first_row: int) -> pd.DataFrame:
     split_rows: dict = {}  # position -> cells, for records split by the csv module
     for block in rows.blocks:
         if block.cells is not None:
-            for position, (cells, line) in enumerate(zip(block.cells, block.lines, strict=True),
-                                                     start=block.start):
-                if len(cells) == width:
+            fits = [len(cells) == width for cells in block.cells]
+            if all(fits):  # the usual case: the block's columns at once
+                for column in range(width):
+                    pieces[column].append(pa.array([cells[column] for cells in block.cells],
+                                                   type=pa.large_string()))
+                positions.append(np.arange(block.start, block.start + len(fits)))
+                continue
+            for position, (cells, line, fit) in enumerate(zip(block.cells, block.lines, fits, strict=True),
+                                                          start=block.start):
+                if fit:
                     split_rows[position] = cells
                 else:
                     odd[position] = Record(cells, line)
