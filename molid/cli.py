@@ -115,6 +115,21 @@ def _add_template(commands, parser):
     return parser
 
 
+def _add_verify(commands):
+    """Add the verify command; return the sub-command collection."""
+    verify = commands.add_parser(
+        "verify", help="re-run a result from its recorded inputs and compare every number",
+        description="Re-run the analysis a JSON result records (molid identify or grade --json) from "
+        "its input files and options, and compare every number: 'reproduced' (exit 0), or each "
+        "changed input and differing number (exit 1). See docs/provenance.md.",
+    )
+    verify.add_argument("result", help="a JSON document written by molid identify --json or "
+                        "molid grade --json")
+    verify.add_argument("--inputs", metavar="DIR",
+                        help="look for the input files in DIR, by file name, before their recorded paths")
+    return commands
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Build the argument parser (exposed for documentation and tests)."""
     parser = _Parser(
@@ -174,7 +189,7 @@ def build_parser() -> argparse.ArgumentParser:
     report.add_argument("--rubric", metavar="TOML", help="rubric file, for graded reports")
     report.add_argument("--paper", choices=("a4", "letter"), default="a4", help="paper size")
 
-    calibrate = commands.add_parser(
+    calibrate = _add_verify(commands).add_parser(
         "calibrate", help="volume of each vessel from water-fill weighings (ISO 4787)",
         description="Calibrate vessels by water fill: each fill's volume at 20 °C with its GUM "
         "uncertainty, replicate fills combined per vessel, written as a vessel register.",
@@ -212,6 +227,9 @@ def _identify(args) -> int:
     if args.seed is not None and args.monte_carlo is None:
         print("molid: error: --seed needs --monte-carlo N", file=sys.stderr)
         return EXIT_USAGE
+    from molid.io.provenance import ProvenanceRecord, provenance_appended
+
+    record = ProvenanceRecord("identify", args) if args.json else None  # before stdin is read
     source = _run_source(args)
     library = _load_library(args)
     # A register lookup happens in the reader of the in-memory path only; a Monte Carlo
@@ -237,7 +255,8 @@ def _identify(args) -> int:
             print(f"molid: error: {problem}", file=sys.stderr)
             return EXIT_USAGE
     if args.json:
-        sys.stdout.write(to_json(result, None, check))
+        with provenance_appended(sys.stdout, record.finish(library)) as stream:
+            stream.write(to_json(result, None, check))
     else:
         sys.stdout.write(to_table(result, args.top, check))
     if output is not None:
@@ -344,11 +363,15 @@ def _grade(args) -> int:
     inputs = [args.file, args.profile, args.library, args.key, args.rubric, args.vessels]
     output = check_output_path(args.output, inputs, args.force) if args.output else None
     plots = _plots_folder(args)
+    from molid.io.provenance import ProvenanceRecord
+
+    record = ProvenanceRecord("grade", args) if args.json else None  # before stdin is read
+    library = _load_library(args)
     grading = grade(_run_source(args), key=args.key, rubric=args.rubric, profile=args.profile,
-                    library=_load_library(args), vessels=args.vessels)
+                    library=library, vessels=args.vessels)
     if args.json:
-        sys.stdout.write(json.dumps(grading_document(grading, args.top), indent=2,
-                                    ensure_ascii=False, allow_nan=False) + "\n")
+        document = {**grading_document(grading, args.top), "provenance": record.finish(library)}
+        sys.stdout.write(json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n")
     else:
         sys.stdout.write(grades_table(grading))
     if output is not None:
@@ -366,11 +389,14 @@ def _grade(args) -> int:
 def _report(args) -> int:
     from pathlib import Path
 
+    from molid.io.provenance import ProvenanceRecord
     from molid.reports import format_for, write_report
 
+    record = ProvenanceRecord("report", args)  # before standard input is read
+    library = _load_library(args)
     path, ok = write_report(
         _run_source(args), args.output, format=args.format, paper=args.paper, profile=args.profile,
-        library=_load_library(args), top=args.top, key=args.key, rubric=args.rubric,
+        library=library, top=args.top, key=args.key, rubric=args.rubric, provenance=record.finish(library),
         force=args.force, inputs=[args.file, args.library, args.vessels], vessels=args.vessels,
     )
     print(f"wrote {path}", file=sys.stderr)
@@ -399,6 +425,14 @@ def _calibrate(args) -> int:
     return EXIT_ROW_ERRORS if not calibration.ok.all() else EXIT_OK
 
 
+def _verify(args) -> int:
+    from molid.pipeline.verify import verify_result
+
+    verification = verify_result(args.result, inputs=args.inputs, run=main)
+    sys.stdout.write(verification.text)
+    return EXIT_OK if verification.reproduced else EXIT_ROW_ERRORS
+
+
 def _columns(args) -> int:
     from molid.io.header_report import columns_text, describe_columns
 
@@ -416,6 +450,7 @@ def _template(args) -> int:
 
 
 _HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report,
+             "verify": _verify,
              "calibrate": _calibrate, "columns": _columns, "template": _template}
 
 

@@ -56,8 +56,9 @@ def test_identify_json_contract(mixed_file, capsys):
     assert set(sample) >= {"sample", "runs", "molar_mass", "warnings", "candidates"}
 
 
-def test_json_is_deterministic(good_file, capsys):
-    """Checks behaviour: the same input gives byte-identical JSON."""
+def test_json_is_deterministic(good_file, capsys, monkeypatch):
+    """Checks behaviour: the same input gives byte-identical JSON (SOURCE_DATE_EPOCH sets the time)."""
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
     main(["identify", str(good_file), "--json"])
     first = capsys.readouterr().out
     main(["identify", str(good_file), "--json"])

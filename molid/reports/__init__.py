@@ -187,7 +187,7 @@ def format_for(output, format):
     return "html" if suffix in (".html", ".htm") else "pdf"
 
 
-def write_report(source, output, *, format=None, paper="a4", profile=None, library=None,
+def write_report(source, output, *, format=None, paper="a4", profile=None, library=None, provenance=None,
                  top=5, key=None, rubric=None, force=False, inputs=(), vessels=None):
     """Analyse ``source`` and write its report to ``output`` (atomically).
 
@@ -201,6 +201,9 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
         From the output's suffix when None (``.html``/``.htm`` → HTML, else PDF).
     paper : {'a4', 'letter'}
         Paper size.
+    provenance : dict, optional
+        The record printed in a block at the end (:mod:`molid.io.provenance`); made from the
+        arguments when None.
     profile, library, top, key, rubric
         As for :func:`build_report`.
     force : bool
@@ -225,5 +228,9 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
                                       else None, key, rubric, *inputs], force)
     report, ok = build_report(source, profile=profile, library=library, top=top, key=key,
                               rubric=rubric, vessels=vessels)
+    from molid.reports.provenance_block import add_provenance
+
+    add_provenance(report, provenance, source=source, profile=profile, library=library, key=key,
+                   rubric=rubric, vessels=vessels, top=top)
     write_atomic(path, render_report(report, format_for(path, format), paper))
     return path, ok

@@ -401,6 +401,7 @@ def test_json_document(tmp_path, capsys):
         assert isinstance(entry_grade["points"], float)
         assert all(isinstance(code, str) for code in entry_grade["diagnosis"])
         assert (mistake in entry_grade["diagnosis"]) if mistake else not entry_grade["diagnosis"]
+    assert document.pop("provenance")["command"] == "grade"
     assert document == json.loads(json.dumps(grading_document(grade(runs), top=5),
                                              allow_nan=False))
 
