@@ -280,7 +280,7 @@ def test_two_hundred_runs_two_hundred_pages(tmp_path):
     assert len(pages) == 200
     assert "Run R137" in pages[136]
     print(f"200-run report: {elapsed:.1f} s", file=sys.stderr)
-    assert elapsed < 180  # a guard against a runaway (quadratic) path, not a benchmark: see docs/performance.md
+    assert elapsed < 180  # guards against a runaway (quadratic) path; not a benchmark
 
 
 TEACHING = ROOT / "sample_runs" / "teaching_section.csv"
