@@ -723,5 +723,6 @@ def raise_first_error(frame: pd.DataFrame, name: str) -> None:
     """
     problems = frame.attrs.get("line_problems", {})
     for position, (kind, message) in sorted(problems.items()):
-        if kind == "error":
+        if kind == "error":  # the file stops here, so no row below is read
+            message = message.replace(" (the rows below were read on their own)", "")
             raise InputError(f"{name}: row {frame.attrs['first_row'] + position}, {message}")
