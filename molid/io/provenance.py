@@ -56,6 +56,7 @@ LIBRARY_FORM = ("CSV (RFC 4180 quoting, LF line ends, UTF-8) of the merged libra
                 "name, rows in library order, floats as Python's shortest round-trip repr, NaN as "
                 "'nan', booleans as true/false, lists as JSON arrays")
 
+_encode_text = json.encoder.encode_basestring  # a JSON string, non-ASCII kept (json.dumps's encoder)
 _BLOCK = 1 << 20  # read files in 1 MiB blocks: a large run file is never whole in memory
 
 
@@ -106,7 +107,7 @@ def _cell(value) -> str:
     if isinstance(value, (bool, np.bool_)):
         return "true" if value else "false"
     if isinstance(value, (list, tuple, np.ndarray)):
-        return json.dumps([str(item) for item in value], ensure_ascii=False)
+        return "[" + ", ".join(_encode_text(str(item)) for item in value) + "]"  # json.dumps's form
     if isinstance(value, (float, np.floating)):
         value = float(value)
         return "nan" if math.isnan(value) else repr(value)

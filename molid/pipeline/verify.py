@@ -171,9 +171,13 @@ def _rerun(run, arguments: list, standard_input: bytes | None) -> dict:
     try:
         with contextlib.redirect_stdout(output), contextlib.redirect_stderr(errors):
             status = run(arguments)
+    except SystemExit as stop:  # the parser refused an argument (an option of another molid)
+        status = stop.code if isinstance(stop.code, int) else 2
     finally:
         sys.stdin = saved
-    said = errors.getvalue().strip()
+    # its messages in one line, without the usage line and the program's name before each
+    said = "; ".join(line.removeprefix("molid: ") for line in errors.getvalue().splitlines()
+                     if line.strip() and not line.startswith("usage:"))
     if status not in (0, 1):
         raise CannotVerify(f"the analysis could not be re-run (molid {' '.join(arguments)}): "
                            f"{said or f'exit status {status}'}")

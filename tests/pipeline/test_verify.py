@@ -232,6 +232,18 @@ def test_a_different_molid_version_is_stated_and_compared(demo_copy, tmp_path, c
     assert f"recorded with molid 0.0.1; this is molid {__version__}: compared all the same" in out
 
 
+def test_an_option_this_molid_does_not_know_stops_with_exit_2(demo_copy, tmp_path, capsys):
+    """Checks behaviour: a recorded option the command line refuses: exit 2, the parser's words passed on."""
+    runs, profile = demo_copy
+    result = tmp_path / "result.json"
+    document = _record(["identify", runs, "--profile", profile], capsys, result)
+    document["provenance"]["options"]["colour_of_the_bulb"] = "amber"
+    result.write_text(json.dumps(document, indent=2), encoding="utf-8")
+    code, out, err = _run(["verify", result], capsys)
+    assert code == 2 and out == ""
+    assert "could not be re-run" in err and "--colour-of-the-bulb=amber" in err and "unrecognized" in err
+
+
 def test_tolerances_of_the_comparison():
     """Checks behaviour: numbers within 1e-9 relative or 1e-12 absolute agree; texts and types must match."""
     assert (RELATIVE_TOLERANCE, ABSOLUTE_TOLERANCE) == (1e-9, 1e-12)
