@@ -138,7 +138,7 @@ def build_parser() -> argparse.ArgumentParser:
         "substances it can be.",
     )
     parser.add_argument("--version", action="version", version=f"molid {__version__}")
-    commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    commands = _add_plan(parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser))
 
     identify = commands.add_parser(
         "identify", help="molar mass, uncertainty and ranked candidates for each run and sample",
@@ -210,6 +210,21 @@ def build_parser() -> argparse.ArgumentParser:
     columns.add_argument("--profile", metavar="TOML",
                          help="instrument profile giving default uncertainties (see README)")
     return _add_template(commands, parser)
+
+
+def _add_plan(commands):
+    """Add the plan command; return the sub-command collection (build_parser starts with it)."""
+    from molid.planning.command import add_plan_arguments
+
+    plan = commands.add_parser("plan", help="before measuring: what this equipment can tell apart and decide")
+    add_plan_arguments(plan, _positive_int, _seed)
+    return commands
+
+
+def _plan(args) -> int:
+    from molid.planning.command import run_plan
+
+    return run_plan(args, _load_library(args))
 
 
 def _load_library(args):
@@ -452,6 +467,7 @@ def _template(args) -> int:
 _HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "report": _report,
              "verify": _verify,
              "calibrate": _calibrate, "columns": _columns, "template": _template}
+_HANDLERS["plan"] = _plan
 
 
 def main(argv=None) -> int:

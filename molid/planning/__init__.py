@@ -1,0 +1,1 @@
+"""Planning a measurement before anyone weighs anything: what the equipment can tell apart and decide."""

@@ -1,0 +1,172 @@
+"""A plan on the terminal, and as JSON: the plain-words summary first, then the tables.
+
+The JSON document is the plan itself (see :func:`molid.planning.plan.make_plan`), printed
+with sorted-free, fixed key order so the same plan gives the same bytes.
+"""
+
+from __future__ import annotations
+
+import json
+
+from molid.methods.inputs import INPUT_LABELS
+
+__all__ = ["plan_json", "plan_text", "input_words", "percent"]
+
+
+def plan_json(document: dict) -> str:
+    """Return the plan as JSON text (UTF-8, indented, no NaN)."""
+    return json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def input_words(name) -> str:
+    """Say an input of the budget in words ('model' is the real-gas model's term)."""
+    if name == "model":
+        return "real-gas model (second virial coefficient)"
+    return INPUT_LABELS.get(name, str(name))
+
+
+def percent(value) -> str:
+    """Write a fraction as a percentage for a table: '97 %', '0.3 %', '<0.1 %', '0 %'."""
+    if value is None:
+        return "-"
+    value = 100.0 * float(value)
+    if value == 0:
+        return "0 %"
+    if value < 0.1:
+        return "<0.1 %"
+    return f"{value:.0f} %" if value >= 10 else f"{value:.1f} %"
+
+
+def _heading(document) -> list:
+    conditions = document["conditions"]
+    words = f"{conditions['volume']} at {conditions['temperature']} and {conditions['pressure']}"
+    if conditions["room_temperature"] != conditions["temperature"]:
+        words += f", room at {conditions['room_temperature']}"
+    if conditions.get("humidity"):
+        words += f", room humidity {conditions['humidity']} (measured)"
+    runs = "1 run" if document["replicates"] == 1 else f"{document['replicates']} replicate runs"
+    return [f"molid plan: {document['method']}, {words}; {runs} per unknown; profile: {document['profile']}",
+            ""]
+
+
+def _unknowns(document) -> list:
+    if not document["unknowns"]:
+        return []
+    replicates = document["replicates"]
+    lines = ["Predicted result of one run as each unknown (k = 2)"
+             + (f", and of {replicates} replicates" if replicates > 1 else ""),
+             f"{'unknown':<22} {'M g/mol':>9} {'u':>8} {'U':>8}  "
+             + (f"{'U, ' + str(replicates) + ' runs':>12}  " if replicates > 1 else "")
+             + "largest part of u"]
+    notes = []
+    for item in document["unknowns"]:
+        more = f"{item['replicates']['U']:12.2g}  " if replicates > 1 else ""
+        lines.append(f"{item['name'][:22]:<22} {item['molar_mass']:9.3f} {item['u']:8.2g} {item['U']:8.2g}  "
+                     f"{more}{input_words(item['dominant_input'])} ({item['dominant_percent']:.0f} %)")
+        if item["replicates"]["note"]:
+            notes.append(f"  {item['name']}: {item['replicates']['note']}")
+    return lines + notes + [""]
+
+
+def _pair_line(pair) -> str:
+    if pair["separable"]:
+        verdict = "yes"
+    elif pair["replicates_needed"] is not None:
+        verdict = f"no; {pair['replicates_needed']} replicates would"
+    else:
+        verdict = "no; " + (pair["reason"] or "")
+    told = f" (simulated: {percent(pair['simulated_told_apart'])} told apart)" \
+        if "simulated_told_apart" in pair else ""
+    return f"{pair['a'][:20]:<20} {pair['b'][:20]:<20} {pair['separation']:9.2f}  {verdict}{told}"
+
+
+def _pairs(document) -> list:
+    inner = [pair for pair in document["pairs"] if not pair["in_library"]]
+    outer = [pair for pair in document["pairs"] if pair["in_library"]]
+    lines = []
+    if inner:
+        lines += ["Pairs of unknowns (separation in units of u; 5 tells them apart)",
+                  f"{'a':<20} {'b':<20} {'separation':>9}  separable"]
+        lines += [_pair_line(pair) for pair in sorted(inner, key=lambda item: item["separation"])] + [""]
+    if outer:
+        lines += ["Library substances each unknown could be taken for",
+                  f"{'unknown':<20} {'library':<20} {'separation':>9}  separable"]
+        lines += [_pair_line(pair) for pair in outer] + [""]
+    return lines
+
+
+def _confusion(document) -> list:
+    if not document["confusion"]:
+        return []
+    simulation = document["simulation"]
+    what = "runs" if simulation["replicates"] == 1 else f"samples of {simulation['replicates']} runs"
+    lines = [f"Simulated section: {simulation['outcomes']} {what} per unknown (seed {simulation['seed']}; "
+             f"simulator: {simulation['simulator']})",
+             f"{'true unknown':<22} {'consistent':>10} {'first':>7} {'first of unknowns':>17}  "
+             "otherwise taken for"]
+    for row in document["confusion"]:
+        taken = ", ".join(f"{name} {percent(value)}" for name, value in list(row["taken_for"].items())[:4])
+        lines.append(f"{row['true'][:22]:<22} {percent(row['consistent']):>10} {percent(row['first']):>7} "
+                     f"{percent(row['first_among_unknowns']):>17}  {taken or '-'}")
+    if simulation["not_analysed"]:
+        lines.append(f"{simulation['not_analysed']} simulated outcome(s) could not be analysed")
+    return lines + [""]
+
+
+def _grades(document) -> list:
+    grades = document["grades"]
+    if not grades:
+        return []
+    lines = [f"Expected grades (rubric out of {grades['max_points']:g}; {grades['graded']} graded runs): "
+             f"mean {grades['mean']:.1f}, median {grades['median']:g}, "
+             f"full marks {percent(grades['full_marks'])}"]
+    lines += [f"  {item['points']:>6g} points  {percent(item['fraction']):>7}"
+              for item in grades["distribution"]]
+    for code, item in grades["mistakes"].items():
+        lines.append(f"  {code}: made in {percent(item['made'])} of runs, diagnosed in "
+                     f"{percent(item['diagnosed'])} of those")
+    return lines + [""]
+
+
+def _purity(document) -> list:
+    qa = document["qa"]
+    if not qa:
+        return []
+    lines = [f"Purity: {qa['label']} with {qa['contaminant']} ({qa['replicates']} run(s) per cylinder)",
+             f"  detection limit {document['detection_limit']:.3g} % (limited by "
+             f"{input_words(qa['limited_by']) if qa['limited_by'] in INPUT_LABELS else qa['limited_by']})"]
+    if document["operating_characteristic"]:
+        lines.append(f"  limit {qa['limit']:g} %, {qa['rule']} acceptance; u at the limit "
+                     f"{qa['u_at_limit']:.3g} %, guard band {qa['guard_band']:.3g} %")
+        lines += [f"  {line}" for line in _what_it_takes(qa)]
+        lines.append(f"  {'true x %':>9} {'accept':>8} {'reject':>8} {'undecided':>10}")
+        for point in document["operating_characteristic"][::2]:
+            lines.append(f"  {point['x']:9.3g} {percent(point['accept']):>8} {percent(point['reject']):>8} "
+                         f"{percent(point['undecided']):>10}")
+    return lines + [""]
+
+
+def _what_it_takes(qa) -> list:
+    """Say what brings the guard band under the wanted fraction of the limit."""
+    wanted = f"under {qa['guard_band_target'] * 100:.0f} % of the limit"
+    replicates, volume = qa["replicates_needed"], qa["volume_needed_mL"]
+    if qa["guard_band_fraction"] <= qa["guard_band_target"]:
+        smallest = f" (a vessel from {volume:.3g} mL would do)" if volume is not None else ""
+        return [f"the planned equipment keeps the guard band {wanted}{smallest}"]
+    return [f"replicates that bring the guard band {wanted}: "
+            + (str(replicates) if replicates is not None else f"none ({qa['replicates_reason']})"),
+            "or a vessel of at least: " + (f"{volume:.3g} mL" if volume is not None
+                                           else f"none ({qa['volume_reason']})")]
+
+
+def plan_text(document: dict) -> str:
+    """Return the plan as a terminal report: summary, predictions, pairs, simulation, purity, cautions."""
+    lines = _heading(document)
+    if document["summary"]:
+        lines += [f"- {line}" for line in document["summary"]] + [""]
+    for section in (_unknowns, _pairs, _confusion, _grades, _purity):
+        lines += section(document)
+    if document["notes"]:
+        lines += ["Notes"] + [f"- {note}" for note in document["notes"]] + [""]
+    lines += ["Safety"] + [f"- {caution}" for caution in document["cautions"]]
+    return "\n".join(lines) + "\n"
