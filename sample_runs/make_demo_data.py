@@ -175,11 +175,11 @@ def qa_purity(rng):
             "temperature [degC]": f"{temp_c + offset_temp + 0.03 * noise[2]:.2f}",
             "pressure [kPa]": f"{kilopascal + offset_pressure + 0.02 * noise[3]:.2f}",
             "air_pressure [kPa]": "100.80", "humidity [%]": "42", "expected": "sulfur hexafluoride",
-            "operator": "R. Lindqvist", "date": "2026-12-01",
+            "min_purity [%]": "99.5", "operator": "R. Lindqvist", "date": "2026-12-01",
         })
     columns = ["run", "sample", "method", "mass_tare [g]", "mass_filled [g]", "volume [mL]", "u_volume [mL]",
                "temperature [degC]", "pressure [kPa]", "air_pressure [kPa]", "humidity [%]", "expected",
-               "operator", "date"]
+               "min_purity [%]", "operator", "date"]
     write(ROOT / "qa_purity.csv", rows, columns)
 
 

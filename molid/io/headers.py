@@ -47,7 +47,9 @@ HEADER_SEARCH_ROWS = 20
 
 #: Columns the reader or the grading reads as text, besides the required and measured ones
 #: (molid.io.cells reads sample, expected and wet; molid.teaching.grading student and section).
-_TEXT_COLUMNS = ("sample", "expected", "wet", "student", "section", VESSEL_COLUMN)
+#: (``contaminant``, ``min_purity`` and ``max_contaminant`` are read by molid.io.specifications.)
+_TEXT_COLUMNS = ("sample", "expected", "wet", "student", "section", VESSEL_COLUMN, "contaminant",
+                 "min_purity", "max_contaminant")
 
 _SEPARATORS = re.compile(r"[\s\-._]+")
 _BRACKETS = re.compile(r"^(?P<name>[^\[\]]*?)\s*\[(?P<unit>[^\[\]]*)\]$")

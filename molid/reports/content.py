@@ -30,6 +30,7 @@ from molid.candidates.vapour_pressures import saturation_pressure
 from molid.candidates.verdicts import LABEL_MEANINGS, UNFIT_VERDICTS
 from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import METHODS
+from molid.reports.purity_section import purity_finding, specification_blocks
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = [
@@ -845,8 +846,11 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
                         if flask_positions else None)
             blocks.append(_candidate_table(candidates, top, residual))
     findings = _findings(label, extras, candidates, top)
+    purity = purity_finding(result, key, positions[0])
+    findings += [purity] if purity else []
     if findings:
         blocks.append(Bullets("What the measurement can and cannot tell", findings, "note"))
+    blocks += specification_blocks(result, key, positions[0])
     blocks += _message_blocks(result, key, positions, run_labels, columns,
                               said_above=bool(flask_positions) and value is not None)
     summary = hazard_summary(candidates, library_hazards, label=label, methods=methods,

@@ -111,17 +111,66 @@ def spec_figure(spec):
     Parameters
     ----------
     spec : tuple
-        ``("axis", value, expanded, points, width, height)`` for :func:`axis_figure`.
+        ``("axis", value, expanded, points, width, height)`` for :func:`axis_figure`, or
+        ``("purity", estimate, low, high, limit, guard, contaminant, width, height)`` for
+        :func:`purity_figure`.
 
     Returns
     -------
     matplotlib.figure.Figure
     """
     kind, *arguments = spec
+    if kind == "purity":
+        return purity_figure(*arguments)
     if kind != "axis":
         raise ValueError(f"unknown figure kind {kind!r}")
     value, expanded, points, width, height = arguments
     return axis_figure(value, expanded, points, width=width, height=height)
+
+
+def purity_figure(estimate, low, high, limit, guard, contaminant, width=90.0, height=24.0):
+    """Draw a contaminant fraction's interval against a specification limit and its guard band [%].
+
+    Parameters
+    ----------
+    estimate, low, high : float
+        The fraction's estimate and its interval (k = 2, cut to 0-100 %) [%].
+    limit : float
+        The specification's upper limit [%].
+    guard : float
+        The guard band's width on each side of the limit [%] (0 for simple acceptance).
+    contaminant : str
+        The contaminant's name, for the axis label.
+    width, height : float
+        Figure size [mm].
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    import math
+
+    from matplotlib.figure import Figure
+
+    shown = [value for value in (estimate, low, high, limit + guard) if math.isfinite(value)]
+    right = max(shown + [limit * 1.5]) * 1.15 or 1.0
+    with style_context():
+        figure = Figure(figsize=(width * _MM, height * _MM))
+        axes = figure.add_axes((0.04, 0.5, 0.92, 0.3))
+        if guard > 0:
+            axes.axvspan(max(limit - guard, 0.0), limit + guard, color=_BAND, lw=0, zorder=0)
+        axes.axvline(limit, color="#b2182b", lw=1.0, zorder=1)
+        shown_estimate = max(estimate, 0.0)
+        axes.errorbar([shown_estimate], [0], xerr=[[shown_estimate - low], [high - shown_estimate]],
+                      fmt="o", color="#333333", ms=3.2, elinewidth=1.2, capsize=2.5, zorder=3)
+        axes.set_xlim(0.0, right)
+        axes.set_ylim(-1, 1)
+        axes.set_yticks([])
+        axes.set_xlabel(f"{str(contaminant).replace('$', chr(92) + '$')} [% mol]")
+        axes.set_title("● fraction ±U (k = 2)  ·  red line: limit  ·  grey: guard band (cannot decide)",
+                       loc="left", fontsize=5.8)
+        axes.spines[["top", "right", "left"]].set_visible(False)
+    return figure
 
 
 def spec_svg_for_pdf(spec) -> bytes:
