@@ -209,7 +209,39 @@ def build_parser() -> argparse.ArgumentParser:
     _add_sheet(columns)
     columns.add_argument("--profile", metavar="TOML",
                          help="instrument profile giving default uncertainties (see README)")
-    return _add_template(commands, parser)
+    return _add_template(_add_serve(commands), parser)
+
+
+def _port(text):
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a whole number") from None
+    if not 0 <= value <= 65535:
+        raise argparse.ArgumentTypeError("must be 0 (a free port) to 65535")
+    return value
+
+
+def _add_serve(commands):
+    serve = commands.add_parser(
+        "serve", help="a web page on this computer: upload, results, the same downloads",
+        description="Start a web page on this computer: upload a run sheet (and a profile, answer key, "
+        "rubric, vessel register or specification), see how its headers were understood and the "
+        "results, and download the files the command line writes. Listens on 127.0.0.1 on a free "
+        "port and prints the address; see docs/web.md.",
+    )
+    serve.add_argument("--host", default="127.0.0.1",
+                       help="address to listen on (default 127.0.0.1: this computer only); any other "
+                       "address needs an access token")
+    serve.add_argument("--port", type=_port, default=0, help="port (default: a free one)")
+    serve.add_argument("--token", help="access token every request must carry (with a --host other "
+                       "than loopback a random one is generated and printed when none is given)")
+    serve.add_argument("--open", action="store_true", help="open the page in the default web browser")
+    serve.add_argument("--max-upload", type=_positive_int, default=50, metavar="MB",
+                       help="upload limit of one analysis, all its files together (default 50 MB)")
+    serve.add_argument("--workers", type=_positive_int, metavar="N",
+                       help="analyses run at once, each in its own process (default: up to 2)")
+    return commands
 
 
 def _add_plan(commands):
@@ -282,17 +314,9 @@ def _identify(args) -> int:
 
 def _is_large_csv(name) -> bool:
     """Tell whether a file is a CSV longer than one chunk (then analysed in chunks)."""
-    from pathlib import Path
+    from molid.pipeline.streaming import is_large_csv  # the web page decides by the same test
 
-    from molid.pipeline.streaming import DEFAULT_CHUNK_ROWS, count_data_lines
-
-    path = Path(name)
-    if name == "-" or not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
-        return False
-    with open(path, "rb") as stream:
-        if stream.read(4) == b"PK\x03\x04":
-            return False
-    return count_data_lines(path) > DEFAULT_CHUNK_ROWS
+    return is_large_csv(name)
 
 
 def _identify_streaming(args, output, library) -> int:
@@ -455,6 +479,19 @@ def _columns(args) -> int:
     return EXIT_OK
 
 
+def _serve(args) -> int:
+    from importlib.util import find_spec
+
+    if find_spec("flask") is None:
+        print("molid: error: molid serve needs Flask; install it with: pip install flask", file=sys.stderr)
+        return EXIT_USAGE
+    from molid.web.server import serve
+
+    # the page parses its options with this command line's parser: they mean the same
+    return serve(args.host, args.port, token=args.token, open_browser=args.open,
+                 upload_limit=args.max_upload * 1024 * 1024, workers=args.workers, parse=build_parser)
+
+
 def _template(args) -> int:
     from molid.io.templates import write_template
 
@@ -468,6 +505,7 @@ _HANDLERS = {"identify": _identify, "library": _library, "grade": _grade, "repor
              "verify": _verify,
              "calibrate": _calibrate, "columns": _columns, "template": _template}
 _HANDLERS["plan"] = _plan
+_HANDLERS["serve"] = _serve
 
 
 def main(argv=None) -> int:

@@ -27,7 +27,8 @@ from molid.io.reading import RunIds, first_uses, parse_runs
 from molid.io.safe_files import atomic_output
 from molid.pipeline.identify import identify
 
-__all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv", "stop_pool"]
+__all__ = ["DEFAULT_CHUNK_ROWS", "StreamSummary", "count_data_lines", "identify_to_csv", "is_large_csv",
+           "stop_pool"]
 
 #: Rows per chunk: large enough that numpy's per-call overhead is small, small
 #: enough that a chunk's candidate arrays (rows × about 100 candidates) stay in
@@ -59,6 +60,21 @@ def count_data_lines(path) -> int:
     return max(lines - 1 + (last != b"\n"), 0)
 
 
+def is_large_csv(name) -> bool:
+    """Tell whether a run file is a CSV longer than one chunk (then analysed in chunks).
+
+    Standard input (``-``), a workbook (by its name or its first bytes) and a path that is
+    not a file are not.
+    """
+    path = Path(name)
+    if str(name) == "-" or not path.is_file() or path.suffix.lower() in (".xlsx", ".xlsm"):
+        return False
+    with open(path, "rb") as stream:
+        if stream.read(4) == b"PK\x03\x04":
+            return False
+    return count_data_lines(path) > DEFAULT_CHUNK_ROWS
+
+
 def _merge_notes(collected: dict) -> list:
     """Merge the notes of all chunks: once each, "some rows" where chunks differ."""
     merged = []
@@ -71,11 +87,16 @@ def _merge_notes(collected: dict) -> list:
 
 
 class _Progress:
-    """A one-line progress report on stderr, only when stderr is a terminal."""
+    """A one-line progress report on stderr, only when stderr is a terminal; or a callable's.
 
-    def __init__(self, total: int, enabled: bool | None = None):
+    ``enabled`` may be a callable ``(done, total)``, which then gets the counts instead of
+    the line (a web page's progress bar).
+    """
+
+    def __init__(self, total: int, enabled=None):
         self.total = max(total, 1)
-        self.enabled = sys.stderr.isatty() if enabled is None else enabled
+        self.report = enabled if callable(enabled) else None
+        self.enabled = sys.stderr.isatty() if enabled is None else bool(enabled)
         self.last = 0.0
 
     def update(self, done: int, final: bool = False) -> None:
@@ -85,6 +106,9 @@ class _Progress:
         if not final and now - self.last < 0.2:
             return
         self.last = now
+        if self.report is not None:
+            self.report(done, self.total)
+            return
         share = min(done / self.total, 1.0)
         bar = "#" * int(share * 30)
         sys.stderr.write(f"\rmolid: [{bar:<30}] {done:,} of about {self.total:,} runs "
@@ -111,8 +135,9 @@ def identify_to_csv(source, output, *, profile: InstrumentProfile | str | Path |
         Candidate library; the default library when None.
     chunk_rows : int
         Rows per chunk.
-    progress : bool, optional
-        Show a progress line on stderr; by default only when stderr is a terminal.
+    progress : bool or callable, optional
+        Show a progress line on stderr; by default only when stderr is a terminal. A
+        callable gets ``(runs done, runs in the file)`` instead, at most five times a second.
     workers : int, optional
         Processes that analyse chunks in parallel (default: up to 2, the cores this
         process may use). The output is the same for any number.
