@@ -79,6 +79,15 @@ def _seed(text):
     return value
 
 
+def _reference_conditions(text):
+    from molid.io.reference_conditions import parse_reference_conditions
+
+    try:
+        return parse_reference_conditions(text)
+    except ValueError as problem:
+        raise argparse.ArgumentTypeError(str(problem)) from None
+
+
 def _add_monte_carlo(parser):
     parser.add_argument("--monte-carlo", type=_positive_int, metavar="N",
                         help="also propagate each run by Monte Carlo (GUM Supplement 1) with N draws "
@@ -98,6 +107,9 @@ def _add_quality(parser):
     parser.add_argument("--rule", choices=("guarded", "simple"), default="guarded",
                         help="decision rule for conformity (JCGM 106:2012): guarded acceptance with "
                         "the guard band U (default), or simple acceptance")
+    parser.add_argument("--reference-conditions", type=_reference_conditions, metavar="'T, p'",
+                        help="temperature and pressure at which each consistent candidate's density is "
+                        "given, with units, e.g. '15 degC, 101.325 kPa' (default 0 degC, 101.325 kPa)")
 
 
 def _add_template(commands, parser):
@@ -282,7 +294,8 @@ def _identify(args) -> int:
     # A register lookup happens in the reader of the in-memory path only; a Monte Carlo
     # check needs the whole result (its draws are bounded, so the file is too).
     if output is not None and not args.json and not args.vessels and args.monte_carlo is None \
-            and not args.spec and args.contaminant == "air" and _is_large_csv(args.file):
+            and not args.spec and args.contaminant == "air" and args.reference_conditions is None \
+            and _is_large_csv(args.file):
         return _identify_streaming(args, output, library)
     from molid.io.json_document import to_json
     from molid.io.run_csv import to_csv
@@ -291,7 +304,8 @@ def _identify(args) -> int:
     from molid.pipeline.identify import identify
 
     result = identify(source, profile=args.profile, library=library, vessels=args.vessels,
-                      contaminant=args.contaminant, specifications=args.spec, rule=args.rule)
+                      contaminant=args.contaminant, specifications=args.spec, rule=args.rule,
+                      reference_conditions=args.reference_conditions)
     check = None
     if args.monte_carlo is not None:
         from molid.pipeline.monte_carlo import DrawsRefused

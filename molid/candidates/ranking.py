@@ -19,6 +19,7 @@ import pandas as pd
 
 from molid.candidates.dissolution import load_henry_table
 from molid.candidates.evaluation import evaluate_in_blocks, residual_rows
+from molid.candidates.gas_states import DEFAULT_REFERENCE_CONDITIONS, reference_state
 from molid.candidates.verdicts import (
     DISSOLVES,
     SEPARATION_FACTOR,
@@ -42,8 +43,9 @@ class Ranking:
     """Ranked candidates for the runs and samples of one identification."""
 
     def __init__(self, library, runs, samples, run_index, sample_names, run_budget, labels,
-                 sample_labels, sample_budget):
+                 sample_labels, sample_budget, reference=None):
         self.library = library.reset_index(drop=True)
+        self.reference = reference  # ReferenceState: densities at reference conditions, or None
         self.runs = runs
         self.samples = samples
         self.run_index = run_index  # positions of the evaluated runs in the table
@@ -110,6 +112,8 @@ class Ranking:
                                 f"about {dissolved * 100:.2g} % of it would dissolve and its result "
                                 f"read {dissolved / (1 - dissolved) * 100:.2g} % high (an upper "
                                 "bound: a short contact or water saturated with the gas takes up less)")
+            if self.reference is not None and codes[j] <= 1:  # consistent or marginal
+                item.update(self.reference.entry(j, block["measured"][k, j], block["u_measured"][k, j]))
             items.append(item)
         return items
 
@@ -453,6 +457,8 @@ def rank_identification(result, library=None):
     run_budget = _run_budget(index, input_names, shares)
     sample_budget = _sample_budget(index, input_names, shares, sample_ids, names)
     labels, sample_labels = _labels(result.table, index, library, sample_ids, names)
+    reference = reference_state(library, getattr(result, "reference_conditions", None)
+                                or DEFAULT_REFERENCE_CONDITIONS)
     result.ranking = Ranking(library, runs, samples, index, names, run_budget, labels,
-                             sample_labels, sample_budget)
+                             sample_labels, sample_budget, reference)
     return result.ranking

@@ -14,6 +14,7 @@ import numpy as np
 from molid import __version__
 from molid.candidates.hazards import hazard_summary, pressure_unit_texts
 from molid.io.quality_output import conformity_block, hypotheses_block, limiting_block, purity_block
+from molid.io.reference_output import run_density, sample_density
 from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -118,6 +119,7 @@ def _run_entry(result, index, top, context) -> dict:
         propagated = result.propagation.extras
         entry["gas_mass_g"] = _float(propagated["gas_mass"][index] * 1e3)
         entry["air_density_kg_m3"] = _float(propagated["air_density"][index])
+        entry["density"] = run_density(result, index)
         _add_quality(entry, getattr(result, "quality", None), index, "runs")
     entry["hazards"] = _hazards(context, entry["candidates"],
                                 lambda: ranking.run_candidates(index), top, extras,
@@ -160,6 +162,7 @@ def _sample_entries(result, top, context) -> list:
                 "u_independent": _float(row["u_independent"] * _G),
                 "u_shared": _float(row["u_shared"] * _G),
             }
+            entry["density"] = sample_density(result, name)
             if ranking is not None:
                 entry["candidates"] = ranking.sample_candidates(name, top)
                 entry.update(ranking.sample_extras(name))

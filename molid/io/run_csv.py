@@ -12,6 +12,7 @@ import pandas as pd
 
 from molid.candidates.verdicts import VERDICTS, rank_key, relative_difference, verdicts
 from molid.io.quality_output import csv_columns
+from molid.io.reference_output import reference_columns
 from molid.methods.registry import headline_models
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -118,6 +119,9 @@ def csv_frame(result, monte_carlo=None) -> pd.DataFrame:
     quality = getattr(result, "quality", None)
     if quality is not None:
         for name, item in csv_columns(quality, n).items():
+            columns[f"molid_{name}" if name in user_columns else name] = item
+    if result.ranking is not None:
+        for name, item in reference_columns(result, n).items():
             columns[f"molid_{name}" if name in user_columns else name] = item
     if monte_carlo is not None:
         for name, item in _monte_carlo_columns(monte_carlo).items():

@@ -14,6 +14,7 @@ from molid.candidates.hazards import hazard_line
 from molid.candidates.verdicts import LABEL_MEANINGS
 from molid.io.json_document import to_document
 from molid.io.quality_output import conformity_text, hypothesis_text, limiting_text
+from molid.io.reference_output import reference_lines
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 from molid.uncertainty.validation import SUGGESTED_DRAWS
 
@@ -98,6 +99,7 @@ def _sample_lines(entry, top) -> list:
                                 COVERAGE_FACTOR * u_item if u_item is not None else np.nan)
         lines.append(f"    {item['rank']:>4}  {_cut(item['name'], 24):<24} "
                      f"{item['molar_mass']:>10.3f}  {measured:<24} {z}  {item['verdict']}")
+    lines += reference_lines(entry)
     label = entry.get("label")
     if label:
         lines.append(f"    label: {_label_text(label)}")

@@ -12,12 +12,14 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from molid.candidates.gas_states import DEFAULT_REFERENCE_CONDITIONS
 from molid.candidates.ranking import rank_identification
 from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.reading import RunTable, read_runs
 from molid.methods.inputs import INPUT_LABELS, MEASURED_INPUTS
 from molid.methods.model import measurement_model
 from molid.methods.registry import METHODS, method_codes
+from molid.physics.constants import GAS_CONSTANT
 from molid.pipeline.quality import assess_quality
 from molid.uncertainty.propagation import COVERAGE_FACTOR, budget_percent, complex_step_jacobian, propagate
 from molid.uncertainty.replicates import combine_replicates, shared_inputs
@@ -70,6 +72,16 @@ class Identification:
         Purity and conformity of every run and sample (see :mod:`molid.pipeline.quality`).
     notes : list of str
         File-level remarks.
+    density, u_density : numpy.ndarray or None
+        Each run's measured gas density (the dry gas's: its mass over the gas volume)
+        at its stated temperature and partial pressure, and its standard uncertainty
+        [kg/m³] (see :func:`run_densities`); NaN where the row has an error.
+    sample_density : pandas.DataFrame or None
+        One row per sample: ``sample``, ``value`` and ``u`` [kg/m³] at the mean
+        ``temperature`` [K] and dry-gas ``pressure`` [Pa] of its runs (see
+        :func:`sample_densities`).
+    reference_conditions : tuple of float
+        Temperature [K] and pressure [Pa] at which candidates' reference densities are given.
     """
 
     table: RunTable
@@ -88,6 +100,10 @@ class Identification:
     sample_ranking: object = None
     quality: object = None
     notes: list = field(default_factory=list)
+    density: np.ndarray = None
+    u_density: np.ndarray = None
+    sample_density: pd.DataFrame = None
+    reference_conditions: tuple = DEFAULT_REFERENCE_CONDITIONS
 
     @property
     def ok(self) -> np.ndarray:
@@ -403,6 +419,111 @@ def _sample_results(table: RunTable, propagation, errors, shared):
     return samples, sample_runs, sample_warnings
 
 
+def checked_conditions(conditions) -> tuple:
+    """Check reference conditions ``(T_K, p_Pa)``; the default (0 °C, 101.325 kPa) for None.
+
+    Raises
+    ------
+    ValueError
+        When they are not two finite positive numbers.
+    """
+    if conditions is None:
+        return DEFAULT_REFERENCE_CONDITIONS
+    try:
+        temperature, pressure = (float(item) for item in conditions)
+    except (TypeError, ValueError):
+        raise ValueError(f"reference_conditions must be (temperature in K, pressure in Pa), not "
+                         f"{conditions!r}") from None
+    if not (np.isfinite(temperature) and np.isfinite(pressure) and temperature > 0 and pressure > 0):
+        raise ValueError(f"reference_conditions must be a positive temperature in K and pressure in Pa, "
+                         f"not {conditions!r}")
+    return temperature, pressure
+
+
+def run_densities(molar_mass, u, temperature, pressure):
+    r"""Each run's gas density at its stated temperature and (dry-gas) pressure, and its u [kg/m³].
+
+    Parameters
+    ----------
+    molar_mass, u : numpy.ndarray
+        Ideal-gas molar mass and its standard uncertainty [kg/mol].
+    temperature, pressure : numpy.ndarray
+        The gas's temperature [K] and its own (dry, partial) pressure [Pa].
+
+    Returns
+    -------
+    density, u_density : numpy.ndarray
+        ρ = M·p/(R·T), which is the dry gas's mass over its volume m/V, and its standard
+        uncertainty [kg/m³].
+
+    Notes
+    -----
+    A density is quoted at the stated temperature and pressure, the measured ones, so
+    their uncertainties count: the gas's true state differs from the stated one by
+    their errors, which change the density at the stated state as they change M. With
+    :math:`M = mRT/(pV)` the two have the same relative uncertainty,
+    :math:`u(\rho)/\rho = u(M)/M` (GUM 5.1.6, a product of powers).
+
+    References
+    ----------
+    JCGM 100:2008 (GUM), 5.1.6.
+    """
+    with np.errstate(all="ignore"):
+        density = molar_mass * pressure / (GAS_CONSTANT * temperature)
+        return density, density * (u / molar_mass)
+
+
+def sample_densities(table: RunTable, samples: pd.DataFrame, ok, dry_pressure) -> pd.DataFrame:
+    """Each sample's gas density at the mean temperature and dry-gas pressure of its runs [kg/m³].
+
+    The combined molar mass (with its shared effects and any Birge widening) at the
+    mean state of the sample's runs: ρ = M·p̄/(R·T̄), u(ρ)/ρ = u(M)/M as in
+    :func:`run_densities`. Runs a little apart in T and p are brought to the mean state
+    as ideal gases; the real-gas difference, (1 − Z) times the relative spread, stays
+    below 10⁻⁴ for gases within a few kPa and kelvins.
+
+    Parameters
+    ----------
+    table : RunTable
+        The validated runs.
+    samples : pandas.DataFrame
+        The combined samples (``sample``, ``value``, ``u`` in kg/mol).
+    ok : numpy.ndarray of bool
+        Runs with a result.
+    dry_pressure : numpy.ndarray
+        Each run's dry-gas pressure [Pa].
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``sample``, ``value``, ``u`` [kg/m³], ``temperature`` [K], ``pressure`` [Pa].
+    """
+    sample = table.text["sample"].to_numpy(dtype=object)
+    chosen = ok & pd.notna(pd.Series(sample, dtype=object)).to_numpy()
+    conditions = pd.DataFrame({"sample": sample[chosen], "temperature": table.values["temperature"][chosen],
+                               "pressure": np.asarray(dry_pressure)[chosen]})
+    means = conditions.groupby("sample", sort=False).mean()
+    frame = pd.DataFrame({"sample": samples["sample"].to_numpy(dtype=object)})
+    frame["temperature"] = means["temperature"].reindex(frame["sample"]).to_numpy(dtype=float)
+    frame["pressure"] = means["pressure"].reindex(frame["sample"]).to_numpy(dtype=float)
+    density, u_density = run_densities(samples["value"].to_numpy(dtype=float),
+                                       samples["u"].to_numpy(dtype=float), frame["temperature"].to_numpy(),
+                                       frame["pressure"].to_numpy())
+    frame.insert(1, "value", density)
+    frame.insert(2, "u", u_density)
+    return frame
+
+
+def _combined(table, propagation, errors, ok, combine):
+    """Shared contributions, combined samples, their runs and warnings; empty when not combining."""
+    if not combine:
+        samples = pd.DataFrame({"sample": pd.Series([], dtype=object), "n": [], "value": [],
+                                "u": [], "birge_ratio": [], "widened": []})
+        return {}, samples, {}, {}
+    shared = shared_contributions(table, propagation, ok)
+    return (shared, *_sample_results(table, propagation, errors, shared))
+
+
 def identify(
     source,
     *,
@@ -414,6 +535,7 @@ def identify(
     contaminant: str = "air",
     specifications=None,
     rule: str = "guarded",
+    reference_conditions=None,
 ) -> Identification:
     """Analyse a run file or DataFrame: molar mass, uncertainty, samples and candidates.
 
@@ -437,12 +559,16 @@ def identify(
     contaminant, specifications, rule : optional
         Default contaminant, purity specifications and decision rule of the QA step
         (see :func:`molid.pipeline.quality.assess_quality`).
+    reference_conditions : tuple of float, optional
+        ``(T_K, p_Pa)`` at which each consistent or marginal candidate's density and relative
+        density are given; 0 °C and 101.325 kPa when None.
 
     Returns
     -------
     Identification
         Per-run and per-sample results.
     """
+    reference_conditions = checked_conditions(reference_conditions)
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
     table = source if isinstance(source, RunTable) else read_runs(source, profile=profile,
@@ -455,29 +581,17 @@ def identify(
     molar_mass = np.where(ok, propagation.value, np.nan)
     u = np.where(ok, propagation.standard_uncertainty, np.nan)
     budget = budget_percent(propagation.contributions)
-    if combine:
-        shared = shared_contributions(table, propagation, ok)
-        samples, sample_runs, sample_warnings = _sample_results(table, propagation, errors, shared)
-    else:
-        shared = {}
-        samples = pd.DataFrame({"sample": pd.Series([], dtype=object), "n": [], "value": [],
-                                "u": [], "birge_ratio": [], "widened": []})
-        sample_runs, sample_warnings = {}, {}
+    shared, samples, sample_runs, sample_warnings = _combined(table, propagation, errors, ok, combine)
     result = Identification(
-        table=table,
-        molar_mass=molar_mass,
-        u=u,
-        errors=errors,
-        warnings=warnings,
-        budget=budget,
-        propagation=propagation,
-        samples=samples,
-        sample_runs=sample_runs,
-        sample_warnings=sample_warnings,
-        shared=shared,
-        residual=residual,
-        notes=list(table.notes),
+        table=table, molar_mass=molar_mass, u=u, errors=errors, warnings=warnings, budget=budget,
+        propagation=propagation, samples=samples, sample_runs=sample_runs,
+        sample_warnings=sample_warnings, shared=shared, residual=residual, notes=list(table.notes),
+        reference_conditions=reference_conditions,
     )
+    result.density, result.u_density = run_densities(molar_mass, u, table.values["temperature"],
+                                                     propagation.extras["dry_pressure"])
+    if combine:
+        result.sample_density = sample_densities(table, samples, ok, propagation.extras["dry_pressure"])
     if rank:
         rank_identification(result, library=library)
         assess_quality(result, contaminant=contaminant, specifications=specifications, rule=rule)
