@@ -30,7 +30,7 @@ from molid.candidates.vapour_pressures import saturation_pressure
 from molid.candidates.verdicts import LABEL_MEANINGS, UNFIT_VERDICTS
 from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import METHODS
-from molid.reports.purity_section import purity_finding, specification_blocks
+from molid.reports.purity_section import purity_finding, specification_parts
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = [
@@ -674,6 +674,13 @@ def _nearby(candidates, value, expanded, label_name, limit=6):
     return sorted(chosen.values(), key=lambda item: item["molar_mass"])
 
 
+def _figure(spec):
+    """Draw a figure from its description (matplotlib imported only when a page is drawn)."""
+    import molid.reports.figures as figures
+
+    return figures.spec_figure(spec)
+
+
 def _plot_block(value, expanded, nearby, label_name) -> Plot:
     import molid.reports.figures as figures
 
@@ -850,7 +857,11 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
     findings += [purity] if purity else []
     if findings:
         blocks.append(Bullets("What the measurement can and cannot tell", findings, "note"))
-    blocks += specification_blocks(result, key, positions[0])
+    decision = specification_parts(result, key, positions[0])
+    if decision is not None:
+        sentences, spec, alt = decision
+        blocks += [Bullets("Specification", sentences, "note"),
+                   Plot(lambda spec=spec: _figure(spec), spec[-2], spec[-1], alt, spec=spec)]
     blocks += _message_blocks(result, key, positions, run_labels, columns,
                               said_above=bool(flask_positions) and value is not None)
     summary = hazard_summary(candidates, library_hazards, label=label, methods=methods,

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from molid.io.quality_output import conformity_text, purity_statement
 
-__all__ = ["purity_finding", "specification_blocks"]
+__all__ = ["purity_finding", "specification_parts"]
 
 _PERCENT = 100.0
 
@@ -45,26 +45,21 @@ def purity_finding(result, key, position=None):
     return "Purity: " + sentence[0].lower() + sentence[1:] + "."
 
 
-def specification_blocks(result, key, position=None) -> list:
-    """Return the decision block and its plot for a page whose result has a specification, else []."""
-    from molid.reports.content import Bullets, Plot
+def specification_parts(result, key, position=None):
+    """Return the decision's sentences, the plot's description and its alt text, or None.
 
+    For a page whose result has a specification: ``(sentences, spec, alt)`` where
+    ``spec`` is the ``("purity", ...)`` description :func:`molid.reports.figures.spec_figure` draws.
+    """
     row = _row(result, key if key[0] == "sample" else ("run", position))
     if row is None or not row["outcome"]:
-        return []
+        return None
     block = {"rule": row["rule"], "limit": row["limit"] * _PERCENT, "contaminant": row["contaminant"],
              "outcome": row["outcome"], "probability": row["probability"], "reason": row["reason"]}
-    words = [conformity_text(block)]
+    guarded = "guarded" in row["rule"]
     spec = ("purity", float(row["x"]) * _PERCENT, float(row["low"]) * _PERCENT,
             float(row["high"]) * _PERCENT, float(row["limit"]) * _PERCENT,
-            (2.0 * float(row["u"]) * _PERCENT) if "guarded" in row["rule"] else 0.0,
-            str(row["contaminant"]), 120.0, 15.0)
-
-    def make():
-        from molid.reports.figures import spec_figure
-
-        return spec_figure(spec)
-
-    plot = Plot(make, 120.0, 15.0, f"The {row['contaminant']} fraction's interval (k = 2) against the "
-                "specification's limit (line), with the guard band shaded.", spec=spec)
-    return [Bullets("Specification", words, "note"), plot]
+            (2.0 * float(row["u"]) * _PERCENT) if guarded else 0.0, str(row["contaminant"]), 120.0, 15.0)
+    alt = (f"The {row['contaminant']} fraction's interval (k = 2) against the specification's limit "
+           "(line), with the guard band shaded.")
+    return [conformity_text(block)], spec, alt
