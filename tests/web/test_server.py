@@ -152,3 +152,28 @@ def test_cancel_stops_a_long_analysis(server, tmp_path):
     other = _start(server, SAMPLES / "qa_cylinders.csv")
     _post(server, other + "/run")
     assert _status(server, other, "analyse")["state"] == "done"
+
+
+def test_report_and_blank_sheet_are_the_command_lines(server, tmp_path):
+    """Checks behaviour: the HTML report and a blank CSV sheet from the page are the command line's bytes."""
+    import shutil
+
+    from tests.web.serving import command_line
+
+    for name in ("qa_cylinders.csv", "qa_lab_profile.toml"):
+        shutil.copy(SAMPLES / name, tmp_path / name)
+    report = command_line(tmp_path, "report", "qa_cylinders.csv", "--profile", "qa_lab_profile.toml",
+                          "-o", "report.html")
+    sheet = command_line(tmp_path, "template", "syringe", "-o", "syringe.csv")
+    runs, profile = SAMPLES / "qa_cylinders.csv", SAMPLES / "qa_lab_profile.toml"
+    status, headers, _ = _post(server, "/analyses", {"runs": (runs.name, runs.read_bytes()),
+                                                     "profile": (profile.name, profile.read_bytes())})
+    page = headers["Location"].removeprefix(server.base)
+    _status(server, page, "columns")
+    _post(server, page + "/run")
+    assert _status(server, page, "analyse")["state"] == "done"
+    _post(server, page + "/report", fields={"format": "html", "paper": "a4"})
+    assert _status(server, page, "report-html")["state"] == "done"
+    assert report.result().returncode == 0 and sheet.result().returncode == 0
+    assert server.get(page + "/files/report.html")[2] == (tmp_path / "report.html").read_bytes()
+    assert server.get("/templates/syringe.csv")[2] == (tmp_path / "syringe.csv").read_bytes()
