@@ -21,6 +21,7 @@ The CSVs are checked to be byte-identical to each other and to what
 import json
 import os
 import platform
+import shutil
 import signal
 import statistics
 import subprocess
@@ -167,6 +168,7 @@ def main(uploads: int = 20, runs: int = 10_000, workers: int | None = None) -> N
         server.send_signal(signal.SIGTERM)
         server.wait(60)
     cli_csv = (folder / "cli.csv").read_bytes()
+    shutil.rmtree(folder, ignore_errors=True)
     _report(records, latencies, peaks, idle, wall, cli_csv, uploads, runs, len(data))
 
 
