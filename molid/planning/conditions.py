@@ -17,7 +17,8 @@ from molid.io.units import DEFAULT_UNITS, UnitProblem, resolve_unit, to_si
 from molid.methods.registry import METHODS
 from molid.physics.constants import ZERO_CELSIUS
 
-__all__ = ["PlanError", "METHOD_DEFAULTS", "Conditions", "listed", "parse_quantity", "nominal_conditions"]
+__all__ = ["PlanError", "METHOD_DEFAULTS", "PLAUSIBLE", "Conditions", "listed", "parse_quantity",
+           "nominal_conditions"]
 
 #: Defaults of each method: vessel volume, gas temperature (a flask's: the bath's), pressure
 #: and room temperature. Common practice: 250 mL bulbs, 100 mL gas syringes and collection
@@ -31,6 +32,12 @@ METHOD_DEFAULTS = {
 }
 #: The room's temperature unless ``--room-temperature`` says otherwise.
 DEFAULT_ROOM_TEMPERATURE = "21 degC"
+
+#: Nominal values a plan accepts [SI]: the ranges a run sheet takes without a warning
+#: (molid.io.checks): 200-700 K, 10-250 kPa, 1 mL to 20 L.
+PLAUSIBLE = {"temperature": (200.0, 700.0), "pressure": (10e3, 250e3), "volume": (1e-6, 20e-3)}
+_RANGE_WORDS = {"temperature": "200 K to 700 K (-73 to 427 degC)", "pressure": "10 kPa to 250 kPa",
+                "volume": "1 mL to 20 L (a number alone is in mL)"}
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 _KINDS = {"volume": "volume", "temperature": "temperature", "pressure": "pressure",
@@ -151,12 +158,15 @@ def _check(option: str, text: str, kind: str, value: float) -> None:
                         f"{-ZERO_CELSIUS:g} degC); give a temperature above it, e.g. '21 degC'")
     if kind == "volume" and value <= 0:
         raise PlanError(f"{option} '{text}': a volume must be above 0; give e.g. '250 mL'")
-    if kind == "volume" and value > 1.0:
-        raise PlanError(f"{option} '{text}' is more than a cubic metre, larger than any lab vessel; "
-                        "check the unit (a number alone is in mL)")
     if kind == "pressure" and value <= 0:
         raise PlanError(f"{option} '{text}': a pressure must be above 0; give the absolute "
                         "(barometric) pressure, e.g. '101 kPa'")
+    low, high = PLAUSIBLE[kind]
+    if not low <= value <= high:
+        shown = {"temperature": f"{value:.1f} K", "pressure": f"{value / 1000:.4g} kPa",
+                 "volume": f"{value * 1e6:.4g} mL"}[kind]
+        raise PlanError(f"{option} '{text}' ({shown}) is outside what gas weighing in glass uses; "
+                        f"give a value from {_RANGE_WORDS[kind]}")
 
 
 def _method_checks(method: str, values: dict, text: dict) -> None:

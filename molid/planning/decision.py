@@ -42,7 +42,7 @@ import numpy as np
 
 from molid.methods.registry import METHODS
 from molid.pipeline.identify import identify
-from molid.planning.conditions import PlanError
+from molid.planning.conditions import PLAUSIBLE, PlanError
 from molid.planning.separability import MOST_REPLICATES, replicate_parts
 from molid.planning.simulation import mixture_properties, run_frame
 from molid.quality.conformity import RULES, conformity_probability
@@ -106,15 +106,18 @@ def _decision_frame(conditions, library, main, contaminant, fractions, replicate
                      extra=extra)
 
 
-def _needed(target_u, parts, current, most):
-    """Smallest whole N (or a volume) with u at most the target, from u² = A/N + F; None and why not."""
+def _needed(target_u, parts, current, most, too_many):
+    """Smallest whole N (or a volume) with u at most the target, from u² = A/N + F; None and why not.
+
+    ``too_many`` says in words what exceeding ``most`` means.
+    """
     independent, shared = parts
     room = target_u**2 - shared
     if room <= 0:
         return None, "the part that neither replicates nor a larger vessel reduce is already too large"
     value = independent / room
     if value > most:
-        return None, f"it would need more than {most:g}"
+        return None, too_many
     return max(value, current), None
 
 
@@ -179,13 +182,17 @@ def plan_decision(conditions, library, main, contaminant, profile, *, limit=None
     out.update({"u_at_limit": at_limit, "guard_band": 2.0 * at_limit if rule == "guarded" else 0.0})
     target = guard_fraction * limit / 2.0
     parts = replicate_parts(float(table.at["one", "u"]), float(table.at["two", "u"]))
-    needed, why = _needed(target, parts, 1, MOST_REPLICATES)
+    needed, why = _needed(target, parts, 1, MOST_REPLICATES,
+                          f"it would take more than {MOST_REPLICATES} runs per cylinder")
     out["replicates_needed"] = None if needed is None else int(math.ceil(needed * (1 - 1e-12)))
     out["replicates_reason"] = why
     u_large = float(table.at["large", "u"])
     scale = 4.0 / 3.0 * (at_limit**2 - u_large**2)  # a/V² at the planned volume
     # the smallest volume may be below the planned one: the planned vessel then has room to spare
-    needed, why = _needed(target, (max(scale, 0.0), max(at_limit**2 - scale, 0.0)), 1e-6, 1e4)
+    largest = PLAUSIBLE["volume"][1]
+    needed, why = _needed(target, (max(scale, 0.0), max(at_limit**2 - scale, 0.0)), 1e-6,
+                          (largest / conditions.volume) ** 2,
+                          f"it would take a vessel of more than {largest * 1e3:g} L")
     out["volume_needed"] = None if needed is None else conditions.volume * math.sqrt(needed)
     out["volume_reason"] = why
     return out

@@ -7,10 +7,12 @@ with sorted-free, fixed key order so the same plan gives the same bytes.
 from __future__ import annotations
 
 import json
+import math
 
 from molid.methods.inputs import INPUT_LABELS
 
-__all__ = ["plan_json", "plan_text", "input_words", "percent"]
+__all__ = ["plan_json", "plan_text", "input_words", "percent", "significant", "heading", "replicate_notes",
+           "purity_lines"]
 
 
 def plan_json(document: dict) -> str:
@@ -18,10 +20,29 @@ def plan_json(document: dict) -> str:
     return json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
-def input_words(name) -> str:
-    """Say an input of the budget in words ('model' is the real-gas model's term)."""
+def input_words(name, humidity_measured=True, candidate=None) -> str:
+    """Say an input of the budget in words.
+
+    Parameters
+    ----------
+    name : str
+        An input's name, or ``model`` for the real-gas model's term.
+    humidity_measured : bool
+        The runs state the room's humidity; otherwise it is the profile's assumption.
+    candidate : str, optional
+        The candidate whose real-gas model term it is, when not the substance's own.
+
+    Examples
+    --------
+    >>> input_words("mass_tare"), input_words("humidity", humidity_measured=False)
+    ('tare reading', 'room humidity, assumed')
+    >>> input_words("model", candidate="propyne")
+    'real-gas model term of propyne'
+    """
     if name == "model":
-        return "real-gas model (second virial coefficient)"
+        return "real-gas model term" + (f" of {candidate}" if candidate else "")
+    if name == "humidity":
+        return "room humidity" + ("" if humidity_measured else ", assumed")
     return INPUT_LABELS.get(name, str(name))
 
 
@@ -34,38 +55,80 @@ def percent(value) -> str:
         return "0 %"
     if value < 0.1:
         return "<0.1 %"
+    if value > 99.9 and value < 100.0:
+        return ">99.9 %"
     return f"{value:.0f} %" if value >= 10 else f"{value:.1f} %"
 
 
+def significant(value, digits: int = 2) -> str:
+    """Write a number to a number of significant digits, keeping trailing zeros.
+
+    Examples
+    --------
+    >>> significant(0.0798), significant(0.15), significant(12.34), significant(0.000459)
+    ('0.080', '0.15', '12', '0.00046')
+    """
+    if value is None or not math.isfinite(float(value)):
+        return "-"
+    value = float(value)
+    if value == 0:
+        return "0"
+    exponent = math.floor(math.log10(abs(float(f"{value:.{digits - 1}e}"))))
+    return f"{value:.{max(digits - 1 - exponent, 0)}f}"
+
+
 def _heading(document) -> list:
+    return [heading(document), ""]
+
+
+def heading(document) -> str:
+    """Say the plan's method, conditions, runs and profile in one line."""
     conditions = document["conditions"]
     words = f"{conditions['volume']} at {conditions['temperature']} and {conditions['pressure']}"
     if conditions["room_temperature"] != conditions["temperature"]:
         words += f", room at {conditions['room_temperature']}"
     if conditions.get("humidity"):
         words += f", room humidity {conditions['humidity']} (measured)"
+    per = "per unknown" if document["unknowns"] else "per cylinder"
     runs = "1 run" if document["replicates"] == 1 else f"{document['replicates']} replicate runs"
-    return [f"molid plan: {document['method']}, {words}; {runs} per unknown; profile: {document['profile']}",
-            ""]
+    return f"molid plan: {document['method']}, {words}; {runs} {per}; profile: {document['profile']}"
+
+
+def replicate_notes(document) -> list:
+    """Say, once for the unknowns it applies to, when more replicates cannot help much."""
+    groups = {}
+    for item in document["unknowns"]:
+        if item["replicates"]["shared_dominates"]:
+            groups.setdefault(item["replicates"]["shared_largest"], []).append(item["name"])
+    replicates = document["replicates"]
+    runs = "one run" if replicates == 1 else f"{replicates} runs"
+    measured = document["conditions"].get("humidity_measured", True)
+    everyone = len(document["unknowns"])
+    lines = []
+    for largest, names in groups.items():
+        which = "every unknown" if len(names) == everyone > 1 else ", ".join(names)
+        lines.append(f"more replicates cannot help much for {which}: with {runs} the part of u common to "
+                     f"every run (mostly the {input_words(largest, measured)}) is already at least the "
+                     "part that averages out")
+    return lines
 
 
 def _unknowns(document) -> list:
     if not document["unknowns"]:
         return []
     replicates = document["replicates"]
-    lines = ["Predicted result of one run as each unknown (k = 2)"
+    measured = document["conditions"].get("humidity_measured", True)
+    lines = ["Predicted result of one run as each unknown (g/mol, k = 2)"
              + (f", and of {replicates} replicates" if replicates > 1 else ""),
-             f"{'unknown':<22} {'M g/mol':>9} {'u':>8} {'U':>8}  "
+             f"{'unknown':<22} {'M':>9} {'u':>8} {'U':>8}  "
              + (f"{'U, ' + str(replicates) + ' runs':>12}  " if replicates > 1 else "")
              + "largest part of u"]
-    notes = []
     for item in document["unknowns"]:
-        more = f"{item['replicates']['U']:12.2g}  " if replicates > 1 else ""
-        lines.append(f"{item['name'][:22]:<22} {item['molar_mass']:9.3f} {item['u']:8.2g} {item['U']:8.2g}  "
-                     f"{more}{input_words(item['dominant_input'])} ({item['dominant_percent']:.0f} %)")
-        if item["replicates"]["note"]:
-            notes.append(f"  {item['name']}: {item['replicates']['note']}")
-    return lines + notes + [""]
+        more = f"{significant(item['replicates']['U']):>12}  " if replicates > 1 else ""
+        lines.append(f"{item['name'][:22]:<22} {item['molar_mass']:9.3f} {significant(item['u']):>8} "
+                     f"{significant(item['U']):>8}  {more}"
+                     f"{input_words(item['dominant_input'], measured)} ({item['dominant_percent']:.0f} %)")
+    return lines + [f"- {note}" for note in replicate_notes(document)] + [""]
 
 
 def _pair_line(pair) -> str:
@@ -128,17 +191,33 @@ def _grades(document) -> list:
     return lines + [""]
 
 
+def purity_lines(document) -> list:
+    """Say what the purity plan finds: detection limit, u and guard band at the limit, what it takes."""
+    qa = document["qa"]
+    if not qa:
+        return []
+    measured = document["conditions"].get("humidity_measured", True)
+    limited = input_words(qa["limited_by"], measured) if qa["limited_by"] in INPUT_LABELS or \
+        qa["limited_by"] == "model" else qa["limited_by"]
+    runs = "1 run" if qa["replicates"] == 1 else f"{qa['replicates']} runs"
+    lines = [f"{qa['label']} with {qa['contaminant']}, {runs} per cylinder: detection limit "
+             f"{document['detection_limit']:.3g} % (the largest part of u(x) is the {limited})"]
+    if document["operating_characteristic"]:
+        band = f"guard band {qa['guard_band']:.3g} %" if qa["rule"] == "guarded" else \
+            f"no guard band, U {2 * qa['u_at_limit']:.3g} %"
+        lines.append(f"limit {qa['limit']:g} %, {qa['rule']} acceptance: u(x) at the limit "
+                     f"{qa['u_at_limit']:.3g} %, {band} ({qa['guard_band_fraction'] * 100:.0f} % of the "
+                     "limit)")
+        lines += _what_it_takes(qa)
+    return lines
+
+
 def _purity(document) -> list:
     qa = document["qa"]
     if not qa:
         return []
-    lines = [f"Purity: {qa['label']} with {qa['contaminant']} ({qa['replicates']} run(s) per cylinder)",
-             f"  detection limit {document['detection_limit']:.3g} % (limited by "
-             f"{input_words(qa['limited_by']) if qa['limited_by'] in INPUT_LABELS else qa['limited_by']})"]
+    lines = ["Purity"] + [f"  {line}" for line in purity_lines(document)]
     if document["operating_characteristic"]:
-        lines.append(f"  limit {qa['limit']:g} %, {qa['rule']} acceptance; u at the limit "
-                     f"{qa['u_at_limit']:.3g} %, guard band {qa['guard_band']:.3g} %")
-        lines += [f"  {line}" for line in _what_it_takes(qa)]
         lines.append(f"  {'true x %':>9} {'accept':>8} {'reject':>8} {'undecided':>10}")
         for point in document["operating_characteristic"][::2]:
             lines.append(f"  {point['x']:9.3g} {percent(point['accept']):>8} {percent(point['reject']):>8} "
@@ -147,13 +226,15 @@ def _purity(document) -> list:
 
 
 def _what_it_takes(qa) -> list:
-    """Say what brings the guard band under the wanted fraction of the limit."""
+    """Say what brings the guard band (under simple acceptance: U) under the wanted fraction of the limit."""
+    band = "the guard band" if qa["rule"] == "guarded" else "U at the limit"
     wanted = f"under {qa['guard_band_target'] * 100:.0f} % of the limit"
     replicates, volume = qa["replicates_needed"], qa["volume_needed_mL"]
     if qa["guard_band_fraction"] <= qa["guard_band_target"]:
-        smallest = f" (a vessel from {volume:.3g} mL would do)" if volume is not None else ""
-        return [f"the planned equipment keeps the guard band {wanted}{smallest}"]
-    return [f"replicates that bring the guard band {wanted}: "
+        smaller = f"; so would a vessel of {volume:.3g} mL or more" if volume is not None \
+            and volume < qa["volume_mL"] else ""
+        return [f"the planned equipment keeps {band} {wanted}{smaller}"]
+    return [f"runs per cylinder that bring {band} {wanted}: "
             + (str(replicates) if replicates is not None else f"none ({qa['replicates_reason']})"),
             "or a vessel of at least: " + (f"{volume:.3g} mL" if volume is not None
                                            else f"none ({qa['volume_reason']})")]

@@ -16,7 +16,7 @@ import io
 from pathlib import Path
 
 from molid.planning.conditions import PlanError
-from molid.planning.output import input_words, percent
+from molid.planning.output import heading, input_words, percent, purity_lines, replicate_notes, significant
 
 __all__ = ["PAGE_FORMATS", "page_format", "interval_figure", "confusion_figure", "characteristic_figure",
            "render_pdf", "render_html"]
@@ -42,7 +42,13 @@ def _figure(width, height):
 
 
 def _groups(document):
-    """Join the unknowns that cannot be told apart into groups (two or more members each)."""
+    """Join the unknowns that cannot be told apart into groups; without any, the closest pair.
+
+    Returns
+    -------
+    list of tuple
+        (title, sorted names) of at most three groups to enlarge.
+    """
     groups = []
     for pair in document["pairs"]:
         if pair["in_library"] or pair["separable"]:
@@ -50,66 +56,110 @@ def _groups(document):
         joined = [group for group in groups if pair["a"] in group or pair["b"] in group]
         merged = {pair["a"], pair["b"]}.union(*joined)
         groups = [group for group in groups if group not in joined] + [merged]
-    return [sorted(group) for group in groups][:3]
+    if groups:
+        return [("cannot be told apart", sorted(group)) for group in groups][:3]
+    inner = [pair for pair in document["pairs"] if not pair["in_library"]]
+    if not inner:
+        return []
+    closest = min(inner, key=lambda pair: pair["separation"])
+    return [(f"closest pair: {closest['separation']:.3g} u apart", sorted((closest["a"], closest["b"])))]
+
+
+def _enlarged(axis, title, group, by_name, replicates):
+    """Draw one enlarged group: each member's interval of one run and of N replicates."""
+    for row, name in enumerate(group):
+        item = by_name[name]
+        axis.errorbar(item["molar_mass"], row + 0.1, xerr=item["U"], fmt="o", color="black", capsize=3,
+                      label="one run" if row == 0 else None)
+        if replicates > 1:
+            axis.errorbar(item["molar_mass"], row - 0.1, xerr=item["replicates"]["U"], fmt="s",
+                          color="tab:blue", linestyle="--", capsize=3,
+                          label=f"{replicates} runs" if row == 0 else None)
+    axis.set_yticks(range(len(group)), group, fontsize=7)
+    axis.set_ylim(-0.6, len(group) - 0.4)
+    axis.tick_params(axis="x", labelsize=7)
+    axis.set_xlabel("molar mass [g/mol]", fontsize=7)
+    axis.set_title(title, fontsize=8)
+    if replicates > 1:
+        axis.legend(fontsize=6)
 
 
 def interval_figure(document):
     """Draw the predicted 95 % intervals (k = 2) of all unknowns on one axis, close groups enlarged."""
     unknowns = sorted(document["unknowns"], key=lambda item: item["molar_mass"])
     groups = _groups(document)
-    figure = _figure(7.0, 2.2 + 0.22 * len(unknowns) + (1.8 if groups else 0.0))
+    figure = _figure(7.0, 1.6 + 0.25 * len(unknowns) + (1.9 if groups else 0.0))
     grid = figure.add_gridspec(2 if groups else 1, max(len(groups), 1),
                                height_ratios=[1.6, 1.0] if groups else [1.0])
     main = figure.add_subplot(grid[0, :])
-    replicates = document["replicates"]
+    low = min(item["molar_mass"] for item in unknowns)
+    high = max(item["molar_mass"] for item in unknowns)
     for row, item in enumerate(unknowns):
         main.errorbar(item["molar_mass"], row, xerr=item["U"], fmt="o", color="black", capsize=3)
-        main.annotate(f"{item['molar_mass']:.3f} ± {item['U']:.2g}",
-                      (item["molar_mass"], row), xytext=(6, 4), textcoords="offset points", fontsize=7)
+        # labels in the right half go to the left of their point, so none runs past the frame
+        right = high > low and item["molar_mass"] > (low + high) / 2
+        main.annotate(f"{item['molar_mass']:.3f} ± {item['U']:.2g}", (item["molar_mass"], row),
+                      xytext=(-6 if right else 6, 3), textcoords="offset points", fontsize=7,
+                      ha="right" if right else "left", va="bottom")
     main.set_yticks(range(len(unknowns)), [item["name"] for item in unknowns], fontsize=7)
-    main.set_xlabel("molar mass [g/mol]; bars: U (k = 2) of one run")
-    main.margins(x=0.15)
+    main.set_ylim(-0.6, len(unknowns) - 0.2)
+    main.set_xlabel("molar mass [g/mol]; bars: U (k = 2) of one run, too short to see where the "
+                    "unknowns are far apart", fontsize=8)
+    main.tick_params(axis="x", labelsize=7)
+    main.margins(x=0.08)
     by_name = {item["name"]: item for item in unknowns}
-    for column, group in enumerate(groups):
-        axis = figure.add_subplot(grid[1, column])
-        for row, name in enumerate(group):
-            item = by_name[name]
-            axis.errorbar(item["molar_mass"], row + 0.1, xerr=item["U"], fmt="o", color="black", capsize=3,
-                          label="one run" if row == 0 else None)
-            if replicates > 1:
-                axis.errorbar(item["molar_mass"], row - 0.1, xerr=item["replicates"]["U"], fmt="s",
-                              color="tab:blue", linestyle="none", capsize=3,
-                              label=f"{replicates} runs" if row == 0 else None)
-        axis.set_yticks(range(len(group)), group, fontsize=7)
-        axis.set_ylim(-0.6, len(group) - 0.4)
-        axis.tick_params(axis="x", labelsize=7)
-        axis.set_title("cannot be told apart", fontsize=8)
-        if replicates > 1:
-            axis.legend(fontsize=6)
+    for column, (title, group) in enumerate(groups):
+        _enlarged(figure.add_subplot(grid[1, column]), title, group, by_name, document["replicates"])
     return figure
 
 
-def confusion_figure(document):
-    """Draw the simulated confusion table as a heat map, each cell's percentage written in it."""
+def _confusion_matrix(document, extra_columns=6):
+    """Rows: true unknowns; columns: the unknowns, then the library substances runs were taken for."""
     names = [row["true"] for row in document["confusion"]]
+    others = {}
+    for row in document["confusion"]:
+        for name, value in row["taken_for"].items():
+            if name not in names:
+                others[name] = max(others.get(name, 0.0), value)
+    shown = sorted(others, key=lambda name: -others[name])[:extra_columns]
+    columns = names + shown + (["any other"] if len(others) > len(shown) else [])
     matrix = []
     for row in document["confusion"]:
-        taken = row["taken_for_among_unknowns"]
-        matrix.append([row["first_among_unknowns"] if name == row["true"] else taken.get(name, 0.0)
-                       for name in names])
-    size = max(2.5, 0.42 * len(names) + 1.4)
-    figure = _figure(size + 1.2, size)
+        values = [row["first"] if name == row["true"] else row["taken_for"].get(name, 0.0)
+                  for name in names + shown]
+        if len(columns) > len(names) + len(shown):
+            values.append(sum(value for name, value in row["taken_for"].items()
+                              if name not in names and name not in shown))
+        matrix.append(values)
+    return names, columns, matrix
+
+
+def confusion_figure(document):
+    """Draw the simulated confusion table as a heat map, each cell's percentage written in it.
+
+    Each row is a true unknown; each cell the share of its simulated runs (or samples) in
+    which a substance ranks first among the whole library. The columns right of the line
+    are library substances that are not among the unknowns.
+    """
+    names, columns, matrix = _confusion_matrix(document)
+    width = max(3.2, 0.55 * len(columns) + 2.4)
+    height = max(2.4, 0.38 * len(names) + 1.9)
+    figure = _figure(min(width, 7.0), height)
     axis = figure.add_subplot()
-    image = axis.imshow(matrix, cmap="Blues", vmin=0.0, vmax=1.0)
+    image = axis.imshow(matrix, cmap="Blues", vmin=0.0, vmax=1.0, aspect="auto")
     for i, values in enumerate(matrix):
         for j, value in enumerate(values):
-            axis.text(j, i, percent(value), ha="center", va="center", fontsize=7,
+            axis.text(j, i, percent(value), ha="center", va="center", fontsize=6.5,
                       color="white" if value > 0.6 else "black")
-    axis.set_xticks(range(len(names)), names, rotation=45, ha="right", fontsize=7)
+    if len(columns) > len(names):
+        axis.axvline(len(names) - 0.5, color="black", linewidth=1.2)
+    axis.set_xticks(range(len(columns)), columns, rotation=40, ha="right", fontsize=7)
     axis.set_yticks(range(len(names)), names, fontsize=7)
-    axis.set_xlabel("ranked first among the unknowns")
-    axis.set_ylabel("true unknown")
-    figure.colorbar(image, ax=axis, fraction=0.046, label="fraction of simulated runs")
+    axis.set_xlabel("ranked first among the whole library (right of the line: not an unknown)", fontsize=7)
+    axis.set_ylabel("true unknown", fontsize=8)
+    bar = figure.colorbar(image, ax=axis, fraction=0.046)
+    bar.set_label("share of simulated runs", fontsize=7)
+    bar.ax.tick_params(labelsize=6)
     return figure
 
 
@@ -122,12 +172,20 @@ def characteristic_figure(document):
     x = [point["x"] for point in points]
     for key, style in (("accept", "-"), ("reject", "--"), ("undecided", ":")):
         axis.plot(x, [point[key] for point in points], style, linewidth=1.8, label=key)
-    axis.axvline(qa["limit"], color="black", linewidth=0.8)
-    axis.annotate("limit", (qa["limit"], 1.02), ha="center", fontsize=7, annotation_clip=False)
-    axis.set_xlabel(f"true mole fraction of {qa['contaminant']} [%]")
-    axis.set_ylabel("probability")
-    axis.set_ylim(-0.02, 1.05)
-    axis.legend(fontsize=7, title=f"{qa['rule']} acceptance", title_fontsize=7)
+    axis.axvline(qa["limit"], color="black", linewidth=1.0, label=f"limit {qa['limit']:g} %")
+    if qa["rule"] == "guarded" and qa["guard_band"] > 0:
+        for sign in (-1, 1):
+            axis.axvline(qa["limit"] + sign * qa["guard_band"], color="grey", linewidth=0.9, linestyle="-.",
+                         label="limit ± guard band" if sign < 0 else None)
+    if document["detection_limit"] is not None and document["detection_limit"] <= max(x):
+        axis.axvline(document["detection_limit"], color="tab:purple", linewidth=0.9, linestyle=(0, (1, 3)),
+                     label="detection limit")
+    axis.set_xlabel(f"true mole fraction of {qa['contaminant']} in {qa['label']} [%]", fontsize=8)
+    axis.set_ylabel("probability", fontsize=8)
+    axis.tick_params(labelsize=7)
+    axis.set_ylim(-0.02, 1.02)
+    axis.legend(fontsize=7, title=f"{qa['rule']} acceptance", title_fontsize=7, loc="upper left",
+                bbox_to_anchor=(1.01, 1.0))
     return figure
 
 
@@ -143,44 +201,99 @@ def _figures(document) -> list:
     return found
 
 
-def _tables(document) -> list:
-    """Give the page's tables as (title, header, rows) of text."""
-    tables = []
-    if document["unknowns"]:
-        n = document["replicates"]
-        header = ["unknown", "M g/mol", "u", "U"] + ([f"U, {n} runs"] if n > 1 else []) \
-            + ["largest part of u"]
-        rows = [[item["name"], f"{item['molar_mass']:.3f}", f"{item['u']:.2g}", f"{item['U']:.2g}"]
-                + ([f"{item['replicates']['U']:.2g}"] if n > 1 else [])
-                + [f"{input_words(item['dominant_input'])} ({item['dominant_percent']:.0f} %)"]
-                for item in document["unknowns"]]
-        tables.append(("Predicted result of one run as each unknown (g/mol, k = 2)", header, rows))
-    pairs = sorted((pair for pair in document["pairs"] if not pair["separable"]),
-                   key=lambda pair: (pair["in_library"], pair["separation"]))
-    if pairs:
-        rows = [[pair["a"], pair["b"], f"{pair['separation']:.2g}",
-                 str(pair["replicates_needed"]) if pair["replicates_needed"] is not None
-                 else (pair["reason"] or "")] for pair in pairs[:40]]
-        tables.append(("Pairs that cannot be told apart (separation in u; 5 needed)",
-                       ["a", "b", "separation", "replicates needed, or why none"], rows))
+def _block(title, header=None, rows=(), widths=None, lines=()):
+    """One block of the page: a title, a table (optional) and lines of text after it."""
+    return {"title": title, "header": header, "rows": list(rows), "widths": widths, "lines": list(lines)}
+
+
+def _predicted_block(document):
+    """Give the predicted results and, under them, when replicates cannot help."""
+    n = document["replicates"]
+    measured = document["conditions"].get("humidity_measured", True)
+    header = ["unknown", "M", "u", "U"] + ([f"U, {n} runs"] if n > 1 else []) + ["largest part of u"]
+    rows = [[item["name"], f"{item['molar_mass']:.3f}", significant(item["u"]), significant(item["U"])]
+            + ([significant(item["replicates"]["U"])] if n > 1 else [])
+            + [f"{input_words(item['dominant_input'], measured)} ({item['dominant_percent']:.0f} %)"]
+            for item in document["unknowns"]]
+    widths = [45, 20, 17, 17] + ([20] if n > 1 else []) + [61 if n > 1 else 81]
+    return _block("Predicted result of one run as each unknown (g/mol, k = 2)", header, rows, widths,
+                  replicate_notes(document))
+
+
+def _verdict(pair) -> str:
+    if pair["separable"]:
+        return "yes"
+    if pair["replicates_needed"] is not None:
+        return f"no; {pair['replicates_needed']} runs would"
+    return "no; " + (pair["reason"] or "")
+
+
+def _pair_block(document, library):
+    """Give the pairs of unknowns (those that cannot be told apart, then the closest), or the library's."""
+    pairs = [pair for pair in document["pairs"] if pair["in_library"] == library]
+    if not pairs:
+        return None
+    pairs = sorted(pairs, key=lambda pair: (pair["separable"], pair["separation"]))[:30 if library else 12]
+    n = document["replicates"]
+    told = any("simulated_told_apart" in pair for pair in pairs)
+    header = (["unknown", "library substance"] if library else ["a", "b"]) + ["separation, one run"] \
+        + ([f"separation, {n} runs"] if n > 1 else []) + ["separable"] \
+        + (["simulated: told apart"] if told else [])
+    rows = [[pair["a"], pair["b"], f"{pair['separation_one_run']:.3g} u"]
+            + ([f"{pair['separation']:.3g} u"] if n > 1 else []) + [_verdict(pair)]
+            + ([percent(pair.get("simulated_told_apart"))] if told else []) for pair in pairs]
+    widths = [32, 32, 20] + ([20] if n > 1 else []) + [0] + ([20] if told else [])
+    widths[widths.index(0)] = _TEXT_WIDTH - sum(widths)
+    title = ("Library substances each unknown could be taken for" if library else
+             "Pairs of unknowns, those that cannot be told apart first (5 u tells two apart)")
+    return _block(title, header, rows, widths)
+
+
+def _section_blocks(document):
+    """Give the simulated section and its grades."""
+    blocks = []
     if document["confusion"]:
         rows = [[row["true"], percent(row["consistent"]), percent(row["first"]),
+                 percent(row["first_among_unknowns"]),
                  ", ".join(f"{name} {percent(value)}" for name, value in list(row["taken_for"].items())[:3])
                  or "-"] for row in document["confusion"]]
-        tables.append(("Simulated section", ["true unknown", "consistent", "first", "otherwise taken for"],
-                       rows))
-    if document["operating_characteristic"]:
+        simulation = document["simulation"]
+        what = "runs" if simulation["replicates"] == 1 else f"samples of {simulation['replicates']} runs"
+        blocks.append(_block(
+            f"Simulated section: {simulation['outcomes']} {what} per unknown (seed {simulation['seed']})",
+            ["true unknown", "consistent", "ranked first", "first among the unknowns",
+             "otherwise ranked first"], rows, [40, 22, 22, 30, 66],
+            [f"Simulator: {simulation['simulator']}."]))
+    grades = document["grades"]
+    if grades:
+        rows = [[f"{item['points']:g}", percent(item["fraction"])] for item in grades["distribution"]]
+        lines = [f"{code}: made in {percent(item['made'])} of runs, diagnosed in "
+                 f"{percent(item['diagnosed'])} of those" for code, item in grades["mistakes"].items()]
+        blocks.append(_block(
+            f"Expected grades (rubric out of {grades['max_points']:g}; {grades['graded']} graded runs): mean "
+            f"{grades['mean']:.1f}, median {grades['median']:g}, full marks {percent(grades['full_marks'])}",
+            ["points", "share of runs"], rows, [45, 45], lines))
+    return blocks
+
+
+def _blocks(document) -> list:
+    """Give the page's blocks, in order, each a title, an optional table and lines of text."""
+    blocks = [_predicted_block(document)] if document["unknowns"] else []
+    blocks += [block for block in (_pair_block(document, False), _pair_block(document, True)) if block]
+    blocks += _section_blocks(document)
+    if document["qa"]:
         rows = [[f"{point['x']:.3g}", percent(point["accept"]), percent(point["reject"]),
                  percent(point["undecided"])] for point in document["operating_characteristic"][::2]]
-        tables.append(("Operating characteristic", ["true x %", "accept", "reject", "undecided"], rows))
-    return tables
+        blocks.append(_block("Purity", lines=purity_lines(document)))
+        if rows:
+            blocks.append(_block("Operating characteristic: the probability of each decision for a cylinder "
+                                 "whose true fraction is x", ["true x %", "accept", "reject", "undecided"],
+                                 rows, [30] * 4))
+    return blocks
 
 
 def _heading(document) -> str:
-    conditions = document["conditions"]
-    return (f"{document['method']}: {conditions['volume']} at {conditions['temperature']} and "
-            f"{conditions['pressure']}; {document['replicates']} run(s) per unknown; profile: "
-            f"{document['profile']}")
+    return heading(document).removeprefix("molid plan: ")
 
 
 def _png(figure) -> bytes:
@@ -203,24 +316,38 @@ def _font(style=""):
     return str(Path(matplotlib.get_data_path()) / "fonts" / "ttf" / names[style])
 
 
-def _pdf_table(document, title, header, rows):
-    """Draw one table: a bold title, a bold header row, then the rows; long cells wrap."""
+def _pdf_block(pdf, block):
+    """Draw one block: a bold title, the table (bold header row; long cells wrap), the lines after it."""
     from fpdf.fonts import FontFace
 
-    document.set_font("DejaVu", "B", 9)
-    document.multi_cell(_TEXT_WIDTH, 5, title, new_x="LMARGIN", new_y="NEXT")
-    widths = [_TEXT_WIDTH / len(header)] * len(header)
-    if len(header) > 3:  # the first column holds names, the last words
-        widths = [40.0] + [(_TEXT_WIDTH - 90.0) / (len(header) - 2)] * (len(header) - 2) + [50.0]
-    document.set_font("DejaVu", "", 7.5)
-    with document.table(col_widths=widths, line_height=4, text_align="LEFT", width=_TEXT_WIDTH,
-                        headings_style=FontFace(emphasis="BOLD"), borders_layout="HORIZONTAL_LINES",
-                        markdown=False) as table:
-        for cells in [header] + rows:
-            line = table.row()
-            for cell in cells:
-                line.cell(str(cell))
-    document.ln(3)
+    pdf.set_font("DejaVu", "B", 9)
+    pdf.multi_cell(_TEXT_WIDTH, 5, block["title"], align="L", new_x="LMARGIN", new_y="NEXT")
+    if block["header"]:
+        pdf.set_font("DejaVu", "", 7.5)
+        widths = block["widths"] or [_TEXT_WIDTH / len(block["header"])] * len(block["header"])
+        with pdf.table(col_widths=widths, line_height=4, text_align="LEFT", width=sum(widths), align="LEFT",
+                       headings_style=FontFace(emphasis="BOLD"), borders_layout="HORIZONTAL_LINES",
+                       markdown=False) as table:
+            for cells in [block["header"]] + block["rows"]:
+                line = table.row()
+                for cell in cells:
+                    line.cell(str(cell))
+    pdf.set_font("DejaVu", "", 7.5)
+    for text in block["lines"]:
+        pdf.multi_cell(_TEXT_WIDTH, 4, text, align="L", new_x="LMARGIN", new_y="NEXT")
+    pdf.ln(3)
+
+
+def _pdf_lines(pdf, title, lines, size=8.0):
+    """Draw a bold title and bulleted lines, left-aligned."""
+    if not lines:
+        return
+    pdf.set_font("DejaVu", "B", 9)
+    pdf.cell(_TEXT_WIDTH, 5, title, new_x="LMARGIN", new_y="NEXT")
+    pdf.set_font("DejaVu", "", size)
+    for line in lines:
+        pdf.multi_cell(_TEXT_WIDTH, 4, f"• {line}", align="L", new_x="LMARGIN", new_y="NEXT")
+    pdf.ln(2)
 
 
 def render_pdf(document: dict, paper: str = "a4") -> bytes:
@@ -239,15 +366,12 @@ def render_pdf(document: dict, paper: str = "a4") -> bytes:
     pdf.set_font("DejaVu", "B", 14)
     pdf.cell(_TEXT_WIDTH, 8, "Measurement plan", new_x="LMARGIN", new_y="NEXT")
     pdf.set_font("DejaVu", "", 8.5)
-    pdf.multi_cell(_TEXT_WIDTH, 4.5, _heading(document), new_x="LMARGIN", new_y="NEXT")
+    pdf.multi_cell(_TEXT_WIDTH, 4.5, _heading(document), align="L", new_x="LMARGIN", new_y="NEXT")
     pdf.ln(2)
-    for line in document["summary"]:
-        pdf.multi_cell(_TEXT_WIDTH, 4.5, f"• {line}", new_x="LMARGIN", new_y="NEXT")
-    pdf.ln(3)
-    for title, header, rows in _tables(document):
-        _pdf_table(pdf, title, header, rows)
+    _pdf_lines(pdf, "In short", document["summary"], 8.5)
+    for block in _blocks(document):
+        _pdf_block(pdf, block)
     for title, figure in _figures(document):
-        data = _png(figure)
         width_in, height_in = figure.get_size_inches()
         shown = min(_TEXT_WIDTH, width_in * 25.4)
         tall = shown * height_in / width_in
@@ -255,16 +379,10 @@ def render_pdf(document: dict, paper: str = "a4") -> bytes:
             pdf.add_page()
         pdf.set_font("DejaVu", "B", 9)
         pdf.cell(_TEXT_WIDTH, 5, title, new_x="LMARGIN", new_y="NEXT")
-        pdf.image(io.BytesIO(data), x=margin, w=shown, h=tall)
+        pdf.image(io.BytesIO(_png(figure)), x=margin, w=shown, h=tall)
         pdf.ln(3)
-    for heading, lines in (("Notes", document["notes"]), ("Safety", document["cautions"])):
-        if lines:
-            pdf.set_font("DejaVu", "B", 9)
-            pdf.cell(_TEXT_WIDTH, 5, heading, new_x="LMARGIN", new_y="NEXT")
-            pdf.set_font("DejaVu", "", 8)
-            for line in lines:
-                pdf.multi_cell(_TEXT_WIDTH, 4, f"• {line}", new_x="LMARGIN", new_y="NEXT")
-            pdf.ln(2)
+    _pdf_lines(pdf, "Notes", document["notes"])
+    _pdf_lines(pdf, "Safety", document["cautions"])
     return bytes(pdf.output())
 
 
@@ -274,15 +392,18 @@ def render_html(document: dict) -> str:
     parts = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
              "<title>molid measurement plan</title>",
              "<style>body{font-family:sans-serif;max-width:60em;margin:2em auto;font-size:14px}"
-             "table{border-collapse:collapse;margin:0.5em 0 1.5em}td,th{border-bottom:1px solid #ccc;"
-             "padding:2px 8px;text-align:left}.safety{background:#fff0e6;padding:0.5em 1em}</style>",
-             "</head><body>", "<h1>Measurement plan</h1>", f"<p>{escape(_heading(document))}</p>"]
+             "table{border-collapse:collapse;margin:0.5em 0 1em}td,th{border-bottom:1px solid #ccc;"
+             "padding:2px 8px;text-align:left;vertical-align:top}"
+             ".safety{background:#fff0e6;padding:0.5em 1em}</style>", "</head><body>",
+             "<h1>Measurement plan</h1>", f"<p>{escape(_heading(document))}</p>"]
     parts.append("<ul>" + "".join(f"<li>{escape(line)}</li>" for line in document["summary"]) + "</ul>")
-    for title, header, rows in _tables(document):
-        parts.append(f"<h2>{escape(title)}</h2><table><tr>"
-                     + "".join(f"<th>{escape(cell)}</th>" for cell in header) + "</tr>"
-                     + "".join("<tr>" + "".join(f"<td>{escape(str(cell))}</td>" for cell in row) + "</tr>"
-                               for row in rows) + "</table>")
+    for block in _blocks(document):
+        parts.append(f"<h2>{escape(block['title'])}</h2>")
+        if block["header"]:
+            parts.append("<table><tr>" + "".join(f"<th>{escape(cell)}</th>" for cell in block["header"])
+                         + "</tr>" + "".join("<tr>" + "".join(f"<td>{escape(str(cell))}</td>" for cell in row)
+                                             + "</tr>" for row in block["rows"]) + "</table>")
+        parts += [f"<p>{escape(line)}</p>" for line in block["lines"]]
     for title, figure in _figures(document):
         parts.append(f"<h2>{escape(title)}</h2><figure>{_svg(figure)}</figure>")
     if document["notes"]:

@@ -21,15 +21,15 @@ from molid.io.profiles import load_profile
 from molid.methods.inputs import INPUT_LABELS
 from molid.planning.conditions import PlanError, listed, nominal_conditions
 from molid.planning.decision import plan_decision
-from molid.planning.output import input_words
+from molid.planning.output import input_words, percent
 from molid.planning.section import parse_mistakes, simulate_section
 from molid.planning.separability import (
     MOST_REPLICATES,
     dominant_input,
     evaluate_nominal,
-    largest_shared,
     pair_separation,
-    shared_note,
+    replicate_split,
+    shared_part,
     uncertainty_with,
 )
 from molid.planning.swaps import swaps_for
@@ -85,16 +85,24 @@ def _check_measurable(table, library, rows, conditions, option):
         raise PlanError(f"{option}: " + listed(problems))
 
 
-def _predicted(table, library, row, replicates):
-    """One unknown's predicted result: u and U as that gas, the largest share, and with N replicates."""
+def _predicted(table, library, row, replicates, measured):
+    """One unknown's predicted result: u and U as that gas, the largest share, and with N replicates.
+
+    ``measured``: the runs state the room's humidity (for the words of a note).
+    """
     position = table.position(row)
     u = float(table.u_measured[position])
     measurement = float(np.sqrt(max(u**2 - table.u_model[position] ** 2, 0.0)))
     name, share = dominant_input(table, position)
+    name_n, share_n = dominant_input(table, position, replicates)
     u_n = float(uncertainty_with(table.u_one[position, row], table.u_two[position, row], replicates))
-    independent = np.sqrt(max(table.u_one[position, row] ** 2 - table.u_two[position, row] ** 2, 0.0) * 2)
-    shared = np.sqrt(max(2 * table.u_two[position, row] ** 2 - table.u_one[position, row] ** 2, 0.0))
-    note = shared_note(table, position, row, replicates) if replicates > 1 else None
+    split = replicate_split(table, position, row, replicates)
+    note = None
+    if split["dominates"]:
+        runs = "one run" if replicates == 1 else f"{replicates} runs"
+        note = (f"more replicates cannot help much: with {runs} the part of u common to every run "
+                f"({split['shared'] * _G:.2g} g/mol, mostly the {input_words(split['largest'], measured)}) "
+                f"is at least the part that averages out ({split['independent'] * _G:.2g} g/mol)")
     return {
         "name": library.at[row, "name"], "formula": library.at[row, "formula"] or None,
         "molar_mass": round(float(library.at[row, "molar_mass"]) * _G, 6),
@@ -103,15 +111,26 @@ def _predicted(table, library, row, replicates):
         "u_model": round(float(table.u_model[position]) * _G, 6),
         "dominant_input": name, "dominant_percent": round(share, 1),
         "replicates": {"n": replicates, "u": round(u_n * _G, 6), "U": round(2 * u_n * _G, 6),
-                       "u_independent": round(float(independent) * _G, 6),
-                       "u_shared": round(float(shared) * _G, 6),
-                       "shared_dominates": bool(shared**2 >= independent**2 / replicates and shared > 0),
+                       "dominant_input": name_n, "dominant_percent": round(share_n, 1),
+                       "u_independent": round(split["independent"] * _G, 6),
+                       "u_shared": round(split["shared"] * _G, 6),
+                       "shared_dominates": split["dominates"], "shared_largest": split["largest"],
                        "note": note},
         "ghs": list(library.at[row, "ghs_hazards"]),
     }
 
 
-def _pair(table, library, first, second, replicates, in_library=False):
+def _no_replicates_reason(table, library, found, measured):
+    """Say why no number of replicates separates a pair: the part of u every run shares."""
+    position, candidate = found["limiting"]
+    common, largest = shared_part(table, position, candidate)
+    words = input_words(largest, measured, library.at[candidate, "name"]
+                        if largest == "model" and table.rows[position] != candidate else None)
+    return (f"no number of replicates would: they read {found['gap'] * _G:.3g} g/mol apart, less than "
+            f"5 times the part of u that every run shares ({common * _G:.2g} g/mol, mostly the {words})")
+
+
+def _pair(table, library, first, second, replicates, measured=True, in_library=False):
     """One pair's separation, verdict, replicates needed and why none would do."""
     found = pair_separation(table, first, second, replicates)
     hill = library["hill"].fillna("").to_numpy(dtype=object)
@@ -125,10 +144,7 @@ def _pair(table, library, first, second, replicates, in_library=False):
                                 "behaviour differs too little; another method (infrared spectroscopy, "
                                 "gas chromatography) is needed")
     elif not np.isfinite(needed):
-        words = largest_shared(table, table.position(first))
-        needed, reason = None, (f"the part of u(M) common to every run (mostly the {words}) alone is more "
-                                f"than a fifth of their gap ({found['gap'] * _G:.3g} g/mol): no number of "
-                                "replicates separates them")
+        needed, reason = None, _no_replicates_reason(table, library, found, measured)
     else:
         needed, reason = None, f"it would take {needed:.0f} replicates, more than {MOST_REPLICATES}"
     return {"a": library.at[first, "name"], "b": library.at[second, "name"],
@@ -140,14 +156,14 @@ def _pair(table, library, first, second, replicates, in_library=False):
             "isomers": isomers, "in_library": in_library}
 
 
-def _library_pairs(table, library, rows, replicates):
+def _library_pairs(table, library, rows, replicates, measured):
     """Each unknown against every measurable library substance it could be confused with."""
     pairs = []
     for row in rows:
         for position, other in enumerate(table.rows):
             if other in rows or not table.ok[position] or table.verdict[position] != "consistent":
                 continue
-            pair = _pair(table, library, row, int(other), replicates, in_library=True)
+            pair = _pair(table, library, row, int(other), replicates, measured, in_library=True)
             if not pair["separable"]:
                 pairs.append(pair)
     return pairs
@@ -183,6 +199,31 @@ def _summary(pairs, swaps, unknowns, replicates):
                      f"closest pair, {closest['a']} and {closest['b']}, is "
                      f"{closest['separation']:.1f} u apart ({SEPARATION_FACTOR:g} u needed)")
     return lines
+
+
+def _model_notes(conditions, profile, library, rows, table, unknowns):
+    """Say what the prediction rests on: an assumed humidity that dominates, gas lost to the water."""
+    notes = []
+    assumed = [item["name"] for item in unknowns if item["dominant_input"] == "humidity"]
+    if conditions.humidity is None and assumed and "humidity" in profile.assumed:
+        value, rule = profile.assumed["humidity"]
+        half_width = np.sqrt(3.0) * float(rule.apply(value))
+        notes.append(f"the runs state no room humidity, so the profile's assumption ({value * 100:.0f} %, "
+                     f"anywhere from {max(value - half_width, 0) * 100:.0f} to "
+                     f"{min(value + half_width, 1) * 100:.0f} %) is the largest part of u for "
+                     + ("every unknown" if len(assumed) == len(unknowns) else ", ".join(assumed))
+                     + "; a hygrometer reading with every run makes it much smaller (plan it with "
+                     "--humidity, e.g. --humidity \"45 %\")")
+    lost = [(library.at[row, "name"], float(table.dissolved[table.position(row)])) for row in rows]
+    lost = [(name, value) for name, value in lost if np.isfinite(value) and value >= 0.01]
+    if lost:
+        notes.append("gas lost to the water, which the prediction does not include: at equilibrium with an "
+                     "equal volume of gas-free water, "
+                     + "; ".join(f"{name} about {value * 100:.2g} % (its result up to "
+                                 f"{value / (1 - value) * 100:.2g} % high)" for name, value in lost)
+                     + ". An upper bound: a short contact, or water that has already taken up the gas, "
+                     "loses less")
+    return notes
 
 
 def _cautions(method, library, rows):
@@ -251,22 +292,23 @@ def _qa_document(found, library, qa_rows, limit, rule, replicates, guard_fractio
 
 def _qa_summary(qa, characteristic):
     """One line on what the screening can decide."""
-    line = (f"purity of {qa['label']}: the detection limit of {qa['contaminant']} is "
-            f"{2 * qa['u_at_zero']:.2g} % with {qa['replicates']} run(s)")
+    runs = "one run" if qa["replicates"] == 1 else f"{qa['replicates']} runs"
+    line = (f"purity of {qa['label']}: with {runs} per cylinder the detection limit of {qa['contaminant']} "
+            f"is {2 * qa['u_at_zero']:.2g} %")
     if not characteristic:
         return line
     middle = characteristic[len(characteristic) // 2]
     line += (f"; a cylinder exactly at the limit ({qa['limit']:g} %) is accepted with probability "
-             f"{middle['accept']:.3g} ({qa['rule']} acceptance)")
+             f"{percent(middle['accept'])} ({qa['rule']} acceptance)")
     if qa["rule"] == "guarded":
         line += (f"; the guard band is {qa['guard_band']:.2g} %, "
                  f"{qa['guard_band_fraction'] * 100:.0f} % of the limit")
         if qa["guard_band_fraction"] > qa["guard_band_target"]:
             ways = []
             if qa["replicates_needed"] is not None:
-                ways.append(f"{qa['replicates_needed']} replicates")
+                ways.append(f"{qa['replicates_needed']} runs per cylinder")
             if qa["volume_needed_mL"] is not None:
-                ways.append(f"a vessel of {qa['volume_needed_mL']:.3g} mL")
+                ways.append(f"a vessel of at least {qa['volume_needed_mL']:.3g} mL")
             line += (f"; to bring it under {qa['guard_band_target'] * 100:.0f} % of the limit: "
                      + (" or ".join(ways) if ways else "neither more replicates nor a larger vessel would"))
     return line
@@ -346,6 +388,7 @@ def make_plan(*, method, unknowns=None, unknowns_file=None, profile=None, librar
                 f"{pair['a']} and {pair['b']} are isomers: this method tells them apart only by their "
                 "different real-gas behaviour (a flask's also by their vapour pressures), which rests on "
                 "the models' correlations, not on their molar mass")
+    document["notes"] += _model_notes(conditions, profile, library, rows, table, document["unknowns"])
     if room_temperature is not None and conditions.room_temperature == conditions.temperature:
         document["notes"].append(f"--room-temperature is not used: {method} runs take the gas's temperature "
                                  "for the balance room")
@@ -373,13 +416,14 @@ def _base_document(conditions, profile, replicates, library, rows, table, agains
     ``table`` holds the unknowns' noise-free results; the whole library is evaluated only
     when it is needed (swaps for a pair that cannot be told apart, ``--against-library``).
     """
-    pairs = [_pair(table, library, first, second, replicates)
+    measured = conditions.humidity is not None
+    pairs = [_pair(table, library, first, second, replicates, measured)
              for index, first in enumerate(rows) for second in rows[index + 1:]]
     inseparable = [pair for pair in pairs if not pair["separable"]]
     whole = evaluate_nominal(conditions, library, np.arange(len(library)), profile) \
         if against_library or inseparable else table
     if against_library:
-        pairs += _library_pairs(whole, library, rows, replicates)
+        pairs += _library_pairs(whole, library, rows, replicates, measured)
     swaps = {}
     for pair in inseparable:
         for name in (pair["a"], pair["b"]):
@@ -392,7 +436,7 @@ def _base_document(conditions, profile, replicates, library, rows, table, agains
                        "room_temperature_K": conditions.room_temperature},
         "profile": profile.source, "replicates": replicates,
         "summary": _summary(pairs, swaps, rows, replicates),
-        "unknowns": [_predicted(table, library, row, replicates) for row in rows],
+        "unknowns": [_predicted(table, library, row, replicates, measured) for row in rows],
         "pairs": pairs,
         "swaps": [{"replace": name, "with": [{**item, "separation": round(item["separation"], 3)}
                                              for item in items]} for name, items in swaps.items()],

@@ -29,7 +29,10 @@ from molid.planning.simulation import gas_properties, run_frame
 from molid.teaching.diagnosis import mistake_model, mistake_variants
 from molid.teaching.grading import grade
 
-__all__ = ["MOST_SIMULATED_RUNS", "parse_mistakes", "simulate_section"]
+__all__ = ["GRADING_CHUNK", "MOST_SIMULATED_RUNS", "parse_mistakes", "simulate_section"]
+
+#: Runs graded at once (see :func:`_graded`): about 1 GB of diagnosis at a time.
+GRADING_CHUNK = 2_000
 
 #: Runs a simulation may draw in all (unknowns × outcomes × replicates): memory for the
 #: (runs × candidates) arrays of the ranking stays under about 2 GB.
@@ -219,34 +222,47 @@ def simulate_section(conditions, library, unknowns, profile, *, count, replicate
             reported, made = _reported_values(frame, mistakes, profile, rng)
             frame["reported_molar_mass [g/mol]"] = reported
             frame["student"] = [f"student {index + 1}" for index in range(len(frame))]
-            grading = grade(frame, rubric=rubric, profile=profile, library=library)
-            result = grading.identification
-            grades = _grade_summary(grading, made, mistakes)
-        else:
-            result = identify(frame, profile=profile, library=library, combine=replicates > 1)
+            grades = _graded(frame, made, mistakes, rubric, profile, library, replicates)
+        result = identify(frame, profile=profile, library=library, combine=replicates > 1)
     block, where = _outcome_block(result, replicates, samples, unknowns, count)
     confusion, told = _confusion(block, where, library, unknowns, count)
     return {"confusion": confusion, "told_apart": told, "grades": grades,
             "not_analysed": int(np.sum(where < 0))}
 
 
-def _grade_summary(grading, made, rates) -> dict:
+def _graded(frame, made, rates, rubric, profile, library, replicates) -> dict:
+    """Grade the section in chunks of whole samples, and summarise the points and the diagnoses.
+
+    The diagnosis holds every mistake variant of every run against every candidate (about
+    0.4 MB a run), so a section is graded :data:`GRADING_CHUNK` runs at a time; each run is
+    graded on its own, so the chunks change nothing but the memory.
+    """
+    size = max(GRADING_CHUNK // replicates, 1) * replicates  # the runs of a sample stay together
+    points, diagnoses, max_points = [], [], None
+    for start in range(0, len(frame), size):
+        grading = grade(frame.iloc[start:start + size].reset_index(drop=True), rubric=rubric, profile=profile,
+                        library=library)
+        points.append(grading.grades["points"].to_numpy(dtype=float))
+        diagnoses += list(grading.grades["diagnosis"])
+        max_points = float(grading.rubric.max_points)
+    return _grade_summary(np.concatenate(points), diagnoses, max_points, made, rates)
+
+
+def _grade_summary(points, diagnoses, max_points, made, rates) -> dict:
     """Summarise the points and how often each simulated mistake was diagnosed."""
-    grades = grading.grades
-    points = grades["points"].to_numpy(dtype=float)
     graded = points[np.isfinite(points)]
     values = pd.Series(np.round(graded, 1)).value_counts(normalize=True).sort_index(ascending=False)
     diagnosed = {}
     for code in rates:
-        rows = made == code
-        found = [code in (codes or []) for codes in grades["diagnosis"][rows]]
-        diagnosed[code] = {"made": float(np.mean(rows)),
+        rows = np.flatnonzero(made == code)
+        found = [code in (diagnoses[row] or []) for row in rows]
+        diagnosed[code] = {"made": float(np.mean(made == code)),
                            "diagnosed": float(np.mean(found)) if found else None}
     return {
-        "max_points": float(grading.rubric.max_points), "graded": int(len(graded)),
+        "max_points": max_points, "graded": int(len(graded)),
         "mean": float(np.mean(graded)) if len(graded) else None,
         "median": float(np.median(graded)) if len(graded) else None,
-        "full_marks": float(np.mean(graded >= grading.rubric.max_points - 1e-9)) if len(graded) else None,
+        "full_marks": float(np.mean(graded >= max_points - 1e-9)) if len(graded) else None,
         "distribution": [{"points": float(value), "fraction": float(share)}
                          for value, share in values.items()],
         "mistakes": diagnosed,

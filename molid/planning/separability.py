@@ -40,13 +40,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from molid.candidates.verdicts import SEPARATION_FACTOR, VERDICTS, verdicts
-from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import METHODS
 from molid.pipeline.identify import identify
 from molid.planning.simulation import gas_properties, run_frame
 
 __all__ = ["MOST_REPLICATES", "NominalTable", "evaluate_nominal", "replicate_parts", "uncertainty_with",
-           "replicates_for", "pair_separation", "dominant_input", "largest_shared", "shared_note"]
+           "replicates_for", "pair_separation", "dominant_input", "shared_part", "replicate_split"]
 
 #: More replicates than this are not proposed: a plan that needs them needs better equipment.
 MOST_REPLICATES = 100
@@ -73,6 +72,11 @@ class NominalTable:
     u_measured, u_model : numpy.ndarray
         Of the substance read as itself: all terms but its molar mass's own, and the
         real-gas model's part [kg/mol].
+    u_model_as : numpy.ndarray
+        The real-gas model's part of the result read as each candidate [kg/mol].
+    dissolved : numpy.ndarray
+        Over water, the fraction of the substance an equal volume of water would take up
+        at equilibrium [1] (NaN for other methods or without a Henry's-law constant).
     budget : dict of numpy.ndarray
         Each input's share of the ideal-gas variance of the one run [%].
     shared : dict of numpy.ndarray
@@ -90,6 +94,8 @@ class NominalTable:
     u_two: np.ndarray
     u_measured: np.ndarray
     u_model: np.ndarray
+    u_model_as: np.ndarray
+    dissolved: np.ndarray
     budget: dict
     shared: dict
     u_ideal: np.ndarray
@@ -151,13 +157,17 @@ def evaluate_nominal(conditions, library, rows, profile) -> NominalTable:
                      block["unfit"][safe_one][own]) if len(block["measured"]) else np.full(count, 2)
     verdict = np.where(ok, np.asarray(VERDICTS, dtype=object)[codes], "")
     single = np.arange(count) * 3
+    has = len(block["measured"]) > 0
+    dissolved = np.where(ok, block["dissolved"][safe_one][own], np.nan) if has and "dissolved" in block \
+        else np.full(count, np.nan)
     return NominalTable(
         rows=rows, ok=ok, errors=[problems[0] if problems else "" for problems in result.errors[0::3]],
         verdict=verdict, gap=gap, u_one=u_one, u_two=u_two,
         u_measured=np.where(ok, block["u_measured"][safe_one][own], np.nan) if len(block["measured"])
         else np.full(count, np.nan),
-        u_model=np.where(ok, block["u_model"][safe_one][own], np.nan) if len(block["measured"])
-        else np.full(count, np.nan),
+        u_model=np.where(ok, block["u_model"][safe_one][own], np.nan) if has else np.full(count, np.nan),
+        u_model_as=np.where(ok[:, None], block["u_model"][safe_one], nan) if has else nan,
+        dissolved=dissolved.astype(float),
         budget={name: share[single] for name, share in result.budget.items()},
         shared={name: part[single + 1] for name, part in result.shared.items()},
         u_ideal=result.u[single])
@@ -238,7 +248,9 @@ def pair_separation(table: NominalTable, first: int, second: int, replicates: in
     dict
         ``separation`` (with the planned replicates; the smaller of the two ways),
         ``separation_one_run``, ``needed`` (NaN where no number does), ``shared_limited``
-        (the shared part alone prevents it) and ``gap`` [kg/mol].
+        (the shared part alone prevents it), ``gap`` [kg/mol] and ``limiting``, the way
+        that needs the most replicates as (position of the substance, row of the candidate
+        it is read as).
     """
     a, b = table.position(first), table.position(second)
     ways = ((a, second), (b, first))
@@ -249,42 +261,85 @@ def pair_separation(table: NominalTable, first: int, second: int, replicates: in
         planned = np.min(gaps / uncertainty_with(ones, twos, replicates))
         one_run = np.min(gaps / ones)
     needed = replicates_for(gaps, ones, twos)
+    # the way that limits: one no number of replicates separates, else the one needing the most
+    limiting = int(np.argmax(np.where(np.isfinite(needed), needed, np.inf)))
     return {"separation": float(planned), "separation_one_run": float(one_run),
             "needed": float(np.max(needed)) if np.all(np.isfinite(needed)) else float("nan"),
-            "shared_limited": bool(np.any(~np.isfinite(needed))), "gap": float(np.min(gaps))}
+            "shared_limited": bool(np.any(~np.isfinite(needed))), "gap": float(np.min(gaps)),
+            "limiting": ways[limiting]}
 
 
-def dominant_input(table: NominalTable, position: int) -> tuple:
-    """Find the largest part of a substance's one-run uncertainty read as itself: (input, share in %).
+def dominant_input(table: NominalTable, position: int, replicates: int = 1) -> tuple:
+    """Find the largest part of a substance's uncertainty read as itself: (input, share in %).
 
-    The ideal-gas budget's shares are scaled to the result read as the substance,
-    whose variance also holds the real-gas model's term (``model``).
+    Each input's variance in the ideal-gas budget is split into its part common to all
+    runs and the rest; with N replicates the rest is divided by N (as identify combines
+    replicates), and the sum is scaled to the result read as the substance, whose
+    variance also holds the real-gas model's term (``model``, common to all runs).
+
+    Parameters
+    ----------
+    table : NominalTable
+        The nominal results.
+    position : int
+        The substance's position in the table.
+    replicates : int
+        Runs per sample.
+
+    Returns
+    -------
+    tuple
+        The input's name (or ``model``) and its share of the variance [%].
     """
-    total = table.u_measured[position] ** 2
-    model_share = 100.0 * table.u_model[position] ** 2 / total if total > 0 else 0.0
-    shares = {name: float(values[position]) for name, values in table.budget.items()
-              if np.isfinite(values[position])}
-    best = max(shares, key=shares.get) if shares else None
-    scaled = shares[best] * (1.0 - model_share / 100.0) if best else 0.0
-    if model_share > scaled:
-        return "model", float(model_share)
-    return best, float(scaled)
+    total, model = table.u_measured[position] ** 2, table.u_model[position] ** 2
+    ideal = table.u_ideal[position] ** 2
+    scale = (total - model) / ideal if ideal > 0 else 0.0
+    variances = {"model": float(np.nan_to_num(model))}
+    for name, shares in table.budget.items():
+        whole = float(np.nan_to_num(shares[position])) / 100.0 * ideal
+        common = min(float(np.nan_to_num(table.shared[name][position])) ** 2, whole) \
+            if name in table.shared else 0.0
+        variances[name] = (common + (whole - common) / replicates) * scale
+    summed = sum(variances.values())
+    best = max(variances, key=variances.get)
+    return best, (100.0 * variances[best] / summed if summed > 0 else 0.0)
 
 
-def largest_shared(table: NominalTable, position: int) -> str:
-    """Name, in words, the largest part of a substance's result that is common to all its runs."""
-    parts = {name: abs(float(values[position])) for name, values in table.shared.items()}
-    parts["model"] = float(table.u_model[position])
-    largest = max(parts, key=parts.get)
-    return ("real-gas model (second virial coefficient)" if largest == "model"
-            else INPUT_LABELS.get(largest, largest))
+def shared_part(table: NominalTable, position: int, candidate: int) -> tuple:
+    """Find the part of u common to every run of a substance read as a candidate, and its largest piece.
+
+    Parameters
+    ----------
+    table : NominalTable
+        The nominal results.
+    position : int
+        The substance's position in the table.
+    candidate : int
+        The library row of the candidate it is read as.
+
+    Returns
+    -------
+    tuple
+        u of the common part [kg/mol] and the name of its largest piece: an input's, or
+        ``model`` for the candidate's real-gas model term.
+    """
+    _, shared = replicate_parts(table.u_one[position, candidate], table.u_two[position, candidate])
+    parts = {name: abs(float(np.nan_to_num(values[position]))) for name, values in table.shared.items()}
+    parts["model"] = float(np.nan_to_num(table.u_model_as[position, candidate]))
+    return float(np.sqrt(shared)), max(parts, key=parts.get)
 
 
-def shared_note(table: NominalTable, position: int, row: int, replicates: int) -> str | None:
-    """Say when more replicates cannot help much: the part common to all runs dominates N runs."""
+def replicate_split(table: NominalTable, position: int, row: int, replicates: int) -> dict:
+    """Split a substance's u with N replicates into the common and the averaging parts [kg/mol].
+
+    Returns
+    -------
+    dict
+        ``shared`` (√F), ``independent`` (√(A/N)), ``dominates`` (the common part is at
+        least the averaging part: more replicates cannot help much) and ``largest``
+        (the name of the common part's largest piece, see :func:`shared_part`).
+    """
     independent, shared = replicate_parts(table.u_one[position, row], table.u_two[position, row])
-    if not shared >= independent / replicates or shared <= 0:
-        return None
-    return (f"more replicates cannot help much: with {replicates} run(s) the part common to every "
-            f"run ({np.sqrt(shared) * 1e3:.2g} g/mol, mostly the {largest_shared(table, position)}) is "
-            f"at least the part that averages out ({np.sqrt(independent / replicates) * 1e3:.2g} g/mol)")
+    _, largest = shared_part(table, position, row)
+    return {"shared": float(np.sqrt(shared)), "independent": float(np.sqrt(independent / replicates)),
+            "dominates": bool(shared > 0 and shared >= independent / replicates), "largest": largest}

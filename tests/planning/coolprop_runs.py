@@ -12,7 +12,8 @@ a flask's volume at the bath from the cubic expansion of borosilicate glass 3.3,
 Noise is drawn with the standard uncertainties the instrument profile states: normal errors
 on the readings, volume, temperatures and pressure; the room humidity and CO2 a run does not
 state are drawn from the profile's assumed ranges (rectangular); a gas collected over water
-has its water vapour's pressure off by the profile's relative ``wet`` term.
+has its water vapour's pressure off by the profile's relative ``wet`` term. Runs of one sample
+share what one session shares: the room, the vessel, and each instrument's calibration.
 """
 
 import numpy as np
@@ -42,17 +43,20 @@ def mixture_density(fluid, fraction, temperature, pressure):
     return state.rhomass()
 
 
-def _truth(method, conditions, count, rng, profile):
-    """Draw the true room humidity, CO2 and the water vapour's relative error of each run."""
+def _truth(method, conditions, count, rng, profile, samples):
+    """Draw the true room humidity and CO2 of each sample, the water vapour's relative error of each run."""
+    groups = samples[-1] + 1
     value, rule = profile.assumed["humidity"]
-    humidity = value + np.sqrt(3) * float(rule.apply(value)) * rng.uniform(-1, 1, count)
+    humidity = value + np.sqrt(3) * float(rule.apply(value)) * rng.uniform(-1, 1, groups)[samples]
     value, rule = profile.assumed["co2"]
-    co2 = np.clip(value + np.sqrt(3) * float(rule.apply(value)) * rng.uniform(-1, 1, count), 0, None)
+    co2 = value + np.sqrt(3) * float(rule.apply(value)) * rng.uniform(-1, 1, groups)[samples]
+    co2 = np.clip(co2, 0, None)
     wet = profile.wet_relative * rng.standard_normal(count) if method.always_wet else np.zeros(count)
     return humidity, co2, wet
 
 
-def runs(method_name, conditions, fluid, count, rng, *, fraction=0.0, profile=None, first=0, humidity=None):
+def runs(method_name, conditions, fluid, count, rng, *, fraction=0.0, profile=None, first=0, humidity=None,
+         replicates=1):
     """Noisy runs of one fluid (with a fraction of air) at nominal conditions, as a run sheet.
 
     Parameters
@@ -76,12 +80,17 @@ def runs(method_name, conditions, fluid, count, rng, *, fraction=0.0, profile=No
     humidity : float, optional
         The room's true relative humidity [1], then measured and written with the profile's u;
         without it the runs state none and it is drawn from the profile's assumed range.
+    replicates : int
+        Runs per sample (one session, one vessel): the room's humidity and CO2, the vessel's
+        volume error and the part of each instrument's error its profile declares common to
+        all runs are drawn once per sample; with more than one, a ``sample`` column is written.
     """
     method = METHODS[method_name]
     profile = profile or load_profile()
     T, p, V = conditions["temperature"], conditions["pressure"], conditions["volume"]
     room = conditions["room_temperature"]
-    drawn, co2, wet = _truth(method, conditions, count, rng, profile)
+    samples = np.arange(count) // replicates
+    drawn, co2, wet = _truth(method, conditions, count, rng, profile, samples)
     measured = humidity is not None
     humidity = np.full(count, humidity) if measured else drawn
     water = PropsSI("P", "T", T, "Q", 0, "Water") * (1 + wet) if method.always_wet else np.zeros(count)
@@ -98,7 +107,12 @@ def runs(method_name, conditions, fluid, count, rng, *, fraction=0.0, profile=No
     first_reading, second_reading = method.simulate_readings(density * volume, rho_air, V, **options)
 
     def noisy(name, value):
-        return value + profile.rule(name).apply(value) * rng.standard_normal(count)
+        rule = profile.rule(name)
+        total = rule.apply(value)
+        shared = total if name == "volume" else rule.apply_shared(value)
+        independent = np.sqrt(np.maximum(total**2 - shared**2, 0.0))
+        return value + shared * rng.standard_normal(samples[-1] + 1)[samples] \
+            + independent * rng.standard_normal(count)
 
     frame = {"run": [f"c{first + index}" for index in range(count)], "method": method_name,
              f"{method.readings[0]} [kg]": noisy(method.readings[0], np.asarray(first_reading)),
@@ -110,4 +124,6 @@ def runs(method_name, conditions, fluid, count, rng, *, fraction=0.0, profile=No
         frame["air_temperature [K]"] = noisy("air_temperature", np.full(count, room))
     if measured:
         frame["humidity [1]"] = np.clip(noisy("humidity", humidity), 0.0, 1.0)
+    if replicates > 1:
+        frame["sample"] = [f"s{first + index}" for index in samples]
     return pd.DataFrame(frame)

@@ -74,6 +74,7 @@ def test_terminal_report_and_both_pages(capsys, tmp_path):
      ["ammonia cannot be collected over water"]),
     (("--unknowns", "argon", "--volume", "-100 mL"), ["--volume '-100 mL'", "above 0"]),
     (("--unknowns", "argon", "--temperature", "-280 degC"), ["--temperature '-280 degC'", "absolute zero"]),
+    (("--unknowns", "argon", "--pressure", "5000 kPa"), ["--pressure '5000 kPa'", "10 kPa to 250 kPa"]),
     (("--method", "vapour-flask", "--unknowns", "acetone, propane"), ["propane is a gas at the room"]),
     (("--unknowns", "argon", "--simulate", "5", "--mistakes", "water-column-ignored=0.1"),
      ["cannot be made with the syringe method"]),
@@ -93,3 +94,23 @@ def test_bad_input_exits_2_and_writes_nothing(capsys, tmp_path, monkeypatch, opt
     for word in words:
         assert word in err
     assert out == "" and list(tmp_path.iterdir()) == []
+
+
+def test_page_holds_grades_and_library_columns(capsys, tmp_path):
+    """Checks behaviour: a graded section's page lists the grades; the heat map shows library substances.
+
+    The confusion table's columns are the unknowns, then the library substances their runs
+    were ranked first as (here nitrous oxide for carbon dioxide); each row adds up to 1.
+    """
+    from molid.planning.page import _confusion_matrix
+
+    options = ("--method", "syringe", "--unknowns", "argon, carbon dioxide", "--simulate", "40",
+               "--mistakes", "celsius-as-kelvin=0.2")
+    code, out, _ = _plan(capsys, *options, "--json")
+    document = json.loads(out)
+    names, columns, matrix = _confusion_matrix(document)
+    assert code == 0 and names == ["argon", "carbon dioxide"] and "nitrous oxide" in columns
+    assert all(sum(row) == pytest.approx(1.0, abs=1e-6) for row in matrix)
+    code, _, _ = _plan(capsys, *options, "-o", str(tmp_path / "plan.html"))
+    page = (tmp_path / "plan.html").read_text(encoding="utf-8")
+    assert code == 0 and "Expected grades" in page and "celsius-as-kelvin: made in" in page

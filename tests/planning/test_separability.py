@@ -73,6 +73,40 @@ def test_predicted_u_agrees_with_the_spread_of_simulated_runs(method, humidity):
         assert low <= spread / predicted[name] <= high, (name, spread, predicted[name])
 
 
+@pytest.mark.parametrize(("method", "unknowns"), [
+    ("syringe", [("nitrogen", "Nitrogen"), ("carbon dioxide", "CarbonDioxide"), ("argon", "Argon")]),
+    ("evacuated-bulb", [("sulfur hexafluoride", "SulfurHexafluoride")]),
+])
+def test_predicted_u_of_replicates_agrees_with_the_spread_of_simulated_samples(method, unknowns):
+    """The u of 4 replicate runs (inputs only) against the spread of 250 CoolProp samples of 4 runs.
+
+    Each sample is one session: its room humidity (not measured, drawn from the profile's
+    range), its vessel's volume and the calibration parts of the instruments are drawn once
+    for its 4 runs, the rest for each run. identify combines each sample's runs. The ratio
+    s/u of the sample results must lie within the 0.1 % and 99.9 % quantiles of
+    √(χ²(n − 1)/(n − 1)) widened by 3 % (as above). A plan that averaged the shared parts
+    over the 4 runs would predict about 0.57 of the spread for either method and fail.
+    """
+    replicates, samples = 4, 250
+    plan = make_plan(method=method, unknowns=", ".join(name for name, _ in unknowns), replicates=replicates)
+    library = load_library().reset_index(drop=True)
+    conditions = nominal_conditions(method).as_dict()
+    rng = np.random.default_rng(17)
+    count = replicates * samples
+    frame = pd.concat([coolprop_runs.runs(method, conditions, fluid, count, rng, first=index * count,
+                                          replicates=replicates)
+                       for index, (_, fluid) in enumerate(unknowns)], ignore_index=True)
+    result = identify(frame, library=library)
+    position = {name: index for index, name in enumerate(result.ranking.sample_names)}
+    low = np.sqrt(chi2.ppf(0.001, samples - 1) / (samples - 1)) * 0.97
+    high = np.sqrt(chi2.ppf(0.999, samples - 1) / (samples - 1)) * 1.03
+    for index, ((name, _), item) in enumerate(zip(unknowns, plan["unknowns"], strict=True)):
+        keys = [position[f"s{index * count + k}"] for k in range(samples)]
+        spread = np.std(result.ranking.samples["measured"][keys, find_candidate(library, name)], ddof=1) * 1e3
+        predicted = np.sqrt(item["replicates"]["u"] ** 2 - item["u_model"] ** 2)
+        assert low <= spread / predicted <= high, (name, spread, predicted)
+
+
 def test_separability_agrees_with_the_monte_carlo_confusion():
     """Pairs called separable are told apart in ≥ 95 % of CoolProp runs; inseparable ones are not.
 
