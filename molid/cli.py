@@ -2,8 +2,9 @@
 
 A thin layer over the library. Exit status: 0 when every row was analysed, 1 when
 some rows had errors (reported; every other row still analysed), 2 for a usage
-error or a file that cannot be read, 3 for an internal error (a bug: please
-report it with the input that caused it).
+error or a file that cannot be read or written, 3 for an internal error (a bug:
+please report it with the input that caused it), 130 after SIGINT (Ctrl-C) and 143
+after SIGTERM (partial output files removed, worker processes ended).
 """
 
 from __future__ import annotations
@@ -38,6 +39,10 @@ def _add_common(parser):
                         help="add a candidate (repeatable), e.g. --candidate 'C3H6O=acetone'")
     parser.add_argument("--top", type=_positive_int, default=5, metavar="N",
                         help="candidates shown per run or sample (default 5)")
+    parser.add_argument("--cell-limit", type=_positive_int, default=10_000, metavar="N",
+                        help="characters of one cell shown on the terminal, in reports and plots "
+                        "(default 10000); longer cells are cut there, with a note, and kept whole "
+                        "in the CSV and JSON outputs")
     parser.add_argument("--force", action="store_true", help="replace an existing output file")
     parser.add_argument("--vessels", metavar="CSV",
                         help="vessel register (from molid calibrate): runs may give 'vessel' "
@@ -56,7 +61,7 @@ def _run_source(args):
         return args.file
     from molid.io.reading import read_raw
 
-    return read_raw(args.file, sheet=args.sheet)[0]
+    return read_raw(args.file, sheet=args.sheet, keep_bad_lines=True)[0]  # bad lines: row problems
 
 
 def _positive_int(text):
@@ -112,19 +117,12 @@ def _add_quality(parser):
                         "given, with units, e.g. '15 degC, 101.325 kPa' (default 0 degC, 101.325 kPa)")
 
 
-def _add_template(commands, parser):
-    """Add the template command; return the whole parser (build_parser ends with it)."""
-    template = commands.add_parser(
-        "template", help="write a blank run sheet for a method",
-        description="Write a blank run sheet for a method: its columns with units and one example "
-        "row (not a run: replace it). A workbook also has a drop-down list of methods and a comment "
-        "on each header giving its meaning and unit.",
-    )
-    template.add_argument("method", help="the method, e.g. evacuated-bulb (an unknown name lists them)")
-    template.add_argument("-o", "--output", metavar="FILE",
-                          help="write a .xlsx or .csv file (default: CSV to stdout)")
-    template.add_argument("--force", action="store_true", help="replace an existing file")
-    return parser
+def _add_page_limit(parser):
+    """Add the paper size and the page limit of a report."""
+    parser.add_argument("--paper", choices=("a4", "letter"), default="a4", help="paper size")
+    parser.add_argument("--max-pages", type=_positive_int, default=500, metavar="N",
+                        help="samples, runs or students' sheets drawn (default 500); one page "
+                        "counts the rest and names every unidentified gas among them")
 
 
 def _add_verify(commands):
@@ -140,6 +138,21 @@ def _add_verify(commands):
     verify.add_argument("--inputs", metavar="DIR",
                         help="look for the input files in DIR, by file name, before their recorded paths")
     return commands
+
+
+def _add_template(commands, parser):
+    """Add the template command; return the whole parser (build_parser ends with it)."""
+    template = commands.add_parser(
+        "template", help="write a blank run sheet for a method",
+        description="Write a blank run sheet for a method: its columns with units and one example "
+        "row (not a run: replace it). A workbook also has a drop-down list of methods and a comment "
+        "on each header giving its meaning and unit.",
+    )
+    template.add_argument("method", help="the method, e.g. evacuated-bulb (an unknown name lists them)")
+    template.add_argument("-o", "--output", metavar="FILE",
+                          help="write a .xlsx or .csv file (default: CSV to stdout)")
+    template.add_argument("--force", action="store_true", help="replace an existing file")
+    return parser
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -199,7 +212,7 @@ def build_parser() -> argparse.ArgumentParser:
                         help="report format (default: from the file name, else pdf)")
     report.add_argument("--key", metavar="CSV", help="answer key, for graded reports")
     report.add_argument("--rubric", metavar="TOML", help="rubric file, for graded reports")
-    report.add_argument("--paper", choices=("a4", "letter"), default="a4", help="paper size")
+    _add_page_limit(report)
 
     calibrate = _add_verify(commands).add_parser(
         "calibrate", help="volume of each vessel from water-fill weighings (ISO 4787)",
@@ -286,6 +299,9 @@ def _identify(args) -> int:
     if args.seed is not None and args.monte_carlo is None:
         print("molid: error: --seed needs --monte-carlo N", file=sys.stderr)
         return EXIT_USAGE
+    if args.json and output is not None and str(output) == "-":
+        print("molid: error: --json and -o - would both write to standard output", file=sys.stderr)
+        return EXIT_USAGE
     from molid.io.provenance import ProvenanceRecord, provenance_appended
 
     record = ProvenanceRecord("identify", args) if args.json else None  # before stdin is read
@@ -293,11 +309,13 @@ def _identify(args) -> int:
     library = _load_library(args)
     # A register lookup happens in the reader of the in-memory path only; a Monte Carlo
     # check needs the whole result (its draws are bounded, so the file is too).
-    if output is not None and not args.json and not args.vessels and args.monte_carlo is None \
+    if (output is not None or args.json) and not args.vessels and args.monte_carlo is None \
             and not args.spec and args.contaminant == "air" and args.reference_conditions is None \
             and _is_large_csv(args.file):
+        if args.json:
+            return _identify_json_streaming(args, output, library, record.finish(library))
         return _identify_streaming(args, output, library)
-    from molid.io.json_document import to_json
+    from molid.io.json_document import write_json
     from molid.io.run_csv import to_csv
     from molid.io.safe_files import write_atomic
     from molid.io.terminal import to_table
@@ -317,13 +335,18 @@ def _identify(args) -> int:
             return EXIT_USAGE
     if args.json:
         with provenance_appended(sys.stdout, record.finish(library)) as stream:
-            stream.write(to_json(result, None, check))
-    else:
-        sys.stdout.write(to_table(result, args.top, check))
+            write_json(result, stream, None, check)  # written run by run, never whole in memory
+    elif output is None or str(output) != "-":  # with -o -, the CSV takes standard output
+        sys.stdout.write(to_table(result, args.top, check, args.cell_limit))
     if output is not None:
         write_atomic(output, to_csv(result, monte_carlo=check))
-        print(f"wrote {output}", file=sys.stderr)
+        _wrote(output)
     return EXIT_ROW_ERRORS if not result.ok.all() else EXIT_OK
+
+
+def _wrote(output):
+    if str(output) != "-":
+        print(f"wrote {output}", file=sys.stderr)
 
 
 def _is_large_csv(name) -> bool:
@@ -337,21 +360,41 @@ def _identify_streaming(args, output, library) -> int:
     from molid.pipeline.streaming import identify_to_csv
 
     summary = identify_to_csv(args.file, output, profile=args.profile, library=library)
-    print(f"{summary.runs:,} runs analysed in {summary.seconds:.1f} s; "
-          f"{summary.rows_with_errors:,} with errors, {summary.rows_with_warnings:,} with warnings")
-    if summary.errors:
-        print("\nErrors (these rows were not analysed)")
-        for message in summary.errors:
-            print(message)
-        if summary.rows_with_errors > len(summary.errors):
-            print(f"... and {summary.rows_with_errors - len(summary.errors):,} more: see the "
-                  f"'error' column of {output}")
-    if summary.notes:
-        print("\nNotes")
-        for note in summary.notes:
-            print(f"- {note}")
-    print(f"wrote {output}", file=sys.stderr)
+    # the summary goes where the per-run table would, unless the CSV itself takes stdout
+    _summary_lines(summary, output, sys.stderr if str(output) == "-" else sys.stdout, args.cell_limit)
+    _wrote(output)
     return EXIT_ROW_ERRORS if summary.rows_with_errors else EXIT_OK
+
+
+def _identify_json_streaming(args, output, library, provenance) -> int:
+    """Identify a large CSV file in chunks, its JSON document to stdout (and the CSV to -o)."""
+    from molid.io.provenance import provenance_appended
+    from molid.pipeline.json_stream import identify_to_json
+
+    with provenance_appended(sys.stdout, provenance) as stream:
+        summary = identify_to_json(args.file, stream, csv_output=output, profile=args.profile,
+                                   library=library)
+    _summary_lines(summary, output, sys.stderr, args.cell_limit)
+    if output is not None:
+        _wrote(output)
+    return EXIT_ROW_ERRORS if summary.rows_with_errors else EXIT_OK
+
+
+def _summary_lines(summary, output, stream, cell_limit) -> None:
+    """Print what a file analysed in chunks gave: counts, the first errors, the notes."""
+    from molid.io.terminal import screen_text
+
+    lines = [f"{summary.runs:,} runs analysed in {summary.seconds:.1f} s; "
+             f"{summary.rows_with_errors:,} with errors, {summary.rows_with_warnings:,} with warnings"]
+    if summary.errors:
+        lines += ["", "Errors (these rows were not analysed)", *summary.errors]
+        if summary.rows_with_errors > len(summary.errors):
+            lines.append(f"... and {summary.rows_with_errors - len(summary.errors):,} more: see "
+                         + (f"the 'error' column of {output}" if output is not None else
+                            "the 'error' key of each run"))
+    if summary.notes:
+        lines += ["", "Notes", *(f"- {note}" for note in summary.notes)]
+    stream.write(screen_text(lines, cell_limit))
 
 
 def _library(args) -> int:
@@ -374,14 +417,17 @@ def _library(args) -> int:
         ]
         sys.stdout.write(json.dumps(records, indent=2, ensure_ascii=False) + "\n")
         return EXIT_OK
+    from molid.io.display import escape_controls
+
     print(f"{'name':<26} {'formula':<12} {'M g/mol':>9} {'CAS':<12} {'Tc K':>7} {'Pc MPa':>7}"
           f" {'omega':>6}  hazards")
     for row in found.itertuples():
         tc = f"{row.critical_temperature:7.1f}" if row.has_critical_data else "      -"
         pc = f"{row.critical_pressure / 1e6:7.3f}" if row.has_critical_data else "      -"
         omega = f"{row.acentric_factor:6.3f}" if row.has_critical_data else "     -"
-        print(f"{row.name[:26]:<26} {(row.formula or '-')[:12]:<12} {row.molar_mass * 1e3:9.3f} "
-              f"{(row.cas or '-'):<12} {tc} {pc} {omega}  {'; '.join(row.ghs_hazards)}")
+        print(f"{escape_controls(row.name)[:26]:<26} {(row.formula or '-')[:12]:<12} "
+              f"{row.molar_mass * 1e3:9.3f} {escape_controls(row.cas or '-'):<12} {tc} {pc} {omega}  "
+              f"{escape_controls('; '.join(row.ghs_hazards))}")
     print(f"{len(found)} of {len(library)} candidates", file=sys.stderr)
     return EXIT_OK
 
@@ -390,20 +436,12 @@ def _plots_folder(args):
     """Check the ``--plots`` folder of ``molid grade`` before any work: None without the option."""
     if not args.plots:
         return None
-    from pathlib import Path
-
-    from molid.io.safe_files import OutputRefused
+    from molid.io.safe_files import check_output_folder
     from molid.teaching.class_plots import PLOT_FILES
 
-    plots = Path(args.plots)
-    if plots.exists() and not plots.is_dir():
-        raise OutputRefused(f"{plots}: is a file; --plots needs a folder")
-    if not plots.parent.exists():
-        raise OutputRefused(f"{plots}: the folder {plots.parent} does not exist")
-    existing = [plots / name for name in PLOT_FILES if (plots / name).exists()]
-    if existing and not args.force:
-        raise OutputRefused(f"{existing[0]}: already exists; use --force to replace the plots")
-    return plots
+    # no plot may replace an input, nor the -o file, even with --force
+    inputs = [args.file, args.profile, args.library, args.key, args.rubric, args.vessels, args.output]
+    return check_output_folder(args.plots, PLOT_FILES, inputs, args.force)
 
 
 def _grade(args) -> int:
@@ -422,14 +460,17 @@ def _grade(args) -> int:
     library = _load_library(args)
     grading = grade(_run_source(args), key=args.key, rubric=args.rubric, profile=args.profile,
                     library=library, vessels=args.vessels)
+    if args.json and output is not None and str(output) == "-":
+        print("molid: error: --json and -o - would both write to standard output", file=sys.stderr)
+        return EXIT_USAGE
     if args.json:
         document = {**grading_document(grading, args.top), "provenance": record.finish(library)}
         sys.stdout.write(json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n")
-    else:
-        sys.stdout.write(grades_table(grading))
+    elif output is None or str(output) != "-":  # with -o -, the CSV takes standard output
+        sys.stdout.write(grades_table(grading, args.cell_limit))
     if output is not None:
         write_atomic(output, grades_csv(grading))
-        print(f"wrote {output}", file=sys.stderr)
+        _wrote(output)
     if plots is not None:
         from molid.teaching.class_plots import write_class_plots
 
@@ -451,8 +492,9 @@ def _report(args) -> int:
         _run_source(args), args.output, format=args.format, paper=args.paper, profile=args.profile,
         library=library, top=args.top, key=args.key, rubric=args.rubric, provenance=record.finish(library),
         force=args.force, inputs=[args.file, args.library, args.vessels], vessels=args.vessels,
+        page_limit=args.max_pages, cell_limit=args.cell_limit,
     )
-    print(f"wrote {path}", file=sys.stderr)
+    _wrote(path)
     suffix = Path(str(path)).suffix.lower()
     written = format_for(path, args.format)
     if suffix in (".pdf", ".html", ".htm") and written != format_for(path, None):
@@ -468,13 +510,17 @@ def _calibrate(args) -> int:
     output = check_output_path(args.output, [args.file, args.profile], args.force) \
         if args.output else None
     calibration = calibrate(args.file, profile=args.profile)
-    sys.stdout.write(summary_text(calibration))
+    from molid.io.terminal import screen_text
+
+    # with -o -, the register takes standard output and the summary goes to stderr
+    summary = screen_text(summary_text(calibration).rstrip("\n").split("\n"))
+    (sys.stderr if output is not None and str(output) == "-" else sys.stdout).write(summary)
     if output is not None:
         if calibration.vessels.empty:
             print(f"molid: {output} not written: no vessel could be calibrated", file=sys.stderr)
         else:
             write_atomic(output, register_text(calibration))
-            print(f"wrote {output}", file=sys.stderr)
+            _wrote(output)
     return EXIT_ROW_ERRORS if not calibration.ok.all() else EXIT_OK
 
 
@@ -488,8 +534,10 @@ def _verify(args) -> int:
 
 def _columns(args) -> int:
     from molid.io.header_report import columns_text, describe_columns
+    from molid.io.terminal import screen_text
 
-    sys.stdout.write(columns_text(describe_columns(args.file, profile=args.profile, sheet=args.sheet)))
+    text = columns_text(describe_columns(args.file, profile=args.profile, sheet=args.sheet))
+    sys.stdout.write(screen_text(text.rstrip("\n").split("\n")))  # headers shown escaped
     return EXIT_OK
 
 
@@ -529,21 +577,56 @@ def main(argv=None) -> int:
     if not args.command:
         parser.print_help()
         return EXIT_USAGE
+    from molid.guards import Interrupted, caught_warnings, check_interrupted, interruptible
+
+    with interruptible():
+        try:
+            with caught_warnings() as notes:  # no library's warning text reaches the user
+                code = _run(args)
+            check_interrupted()  # a signal whose exception a library swallowed
+        except (Interrupted, KeyboardInterrupt) as stop:
+            number = getattr(stop, "number", 2)  # a KeyboardInterrupt is a SIGINT
+            print(f"molid: interrupted by {'SIGINT' if number == 2 else 'SIGTERM'}; any output "
+                  "file not yet complete was removed", file=sys.stderr)
+            if argv is None:  # the command itself, not a call from Python: end the process now
+                _exit_now(128 + number)
+            return 128 + number  # as a shell reports a process ended by the signal
+        for note in notes:
+            print(f"molid: note: {note}", file=sys.stderr)
+        return code
+
+
+def _exit_now(status: int) -> None:
+    """End the process after an interruption, its partial outputs already removed.
+
+    The exit handlers are skipped on purpose: a worker pool's manager thread, cut off by
+    the signal, could keep the interpreter from ending.
+    """
+    import os
+
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.flush()
+        except (OSError, ValueError):
+            pass
+    os._exit(status)
+
+
+def _run(args) -> int:
+    """Run a command's handler and turn what it raises into a message and an exit status."""
     from molid.errors import USER_ERRORS
+    from molid.io.display import shown
 
     try:
         return _HANDLERS[args.command](args)
     except USER_ERRORS as problem:
-        print(f"molid: {problem}", file=sys.stderr)
-        return EXIT_USAGE
-    except KeyboardInterrupt:
-        print("molid: interrupted", file=sys.stderr)
+        print(f"molid: {shown(problem)}", file=sys.stderr)  # it may quote a cell: shown safely
         return EXIT_USAGE
     except BrokenPipeError:
         return EXIT_OK
     except Exception as problem:  # never a traceback for a user; say it is ours
-        print(f"molid: internal error ({type(problem).__name__}: {problem}). This is a bug in "
-              "molid; please report it with the input file.", file=sys.stderr)
+        print(f"molid: internal error ({type(problem).__name__}: {shown(problem, 2000)}). This is "
+              "a bug in molid; please report it with the input file.", file=sys.stderr)
         return EXIT_INTERNAL
 
 

@@ -157,7 +157,7 @@ def describe_columns(source, *, profile: InstrumentProfile | str | Path | None =
     """
     if profile is None or isinstance(profile, (str, Path)):
         profile = load_profile(profile)
-    raw, _, notes, name = read_raw(source, sheet=sheet, find_sheet=True)
+    raw, _, notes, name = read_raw(source, sheet=sheet, find_sheet=True, keep_bad_lines=True)
     by_name = resolve_headers(raw.columns, name, notes)
     units = measured_units(by_name, name)
     found = _FileColumns(units={key: unit for key, unit in units.items() if key in by_name},

@@ -12,13 +12,14 @@ import numpy as np
 
 from molid.candidates.hazards import hazard_line
 from molid.candidates.verdicts import LABEL_MEANINGS
-from molid.io.json_document import to_document
+from molid.io.display import DEFAULT_CELL_LIMIT, escape_controls, shown, was_cut
+from molid.io.json_document import sample_entries
 from molid.io.quality_output import conformity_text, hypothesis_text, limiting_text
 from molid.io.reference_output import reference_lines
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 from molid.uncertainty.validation import SUGGESTED_DRAWS
 
-__all__ = ["format_value", "to_table"]
+__all__ = ["cut_note", "format_value", "screen_text", "to_table"]
 
 _G = 1e3  # kg/mol → g/mol
 
@@ -40,7 +41,7 @@ def format_value(value, expanded, unit=""):
 
 
 def _cut(text, width):
-    text = "" if text is None else str(text)
+    text = "" if text is None else escape_controls(text)  # escaped first: the width is what shows
     return text if len(text) <= width else text[: width - 1] + "…"
 
 
@@ -59,10 +60,13 @@ def _run_lines(result, top) -> list:
     header = (f"{'run':<12} {'sample':<10} {'method':<15} {'M ideal gas ± U (k=2)':<26} "
               "best two candidates (M·Z of each)")
     lines = [header, "-" * len(header)]
+    # each column once as a list: a cell lookup per run costs more than the run's line
+    runs, samples = table.text["run"].tolist(), table.text["sample"].tolist()
+    methods, rows = table.text["method"].tolist(), table.row_numbers.tolist()
     for index in range(len(table)):
-        run = _cut(table.text["run"].iat[index] or f"(row {table.row_numbers[index]})", 12)
-        sample = _cut(table.text["sample"].iat[index] or "", 10)
-        method = _cut(table.text["method"].iat[index] or "?", 15)
+        run = _cut(runs[index] or f"(row {rows[index]})", 12)
+        sample = _cut(samples[index] or "", 10)
+        method = _cut(methods[index] or "?", 15)
         if result.errors[index]:
             lines.append(f"{run:<12} {sample:<10} {method:<15} {'error':<26} see below")
             continue
@@ -160,25 +164,42 @@ def _monte_carlo_lines(lines, check) -> list:
     return out + ["", head + verdict]
 
 
-def to_table(result, top: int = 5, monte_carlo=None) -> str:
+def to_table(result, top: int = 5, monte_carlo=None, cell_limit: int = DEFAULT_CELL_LIMIT) -> str:
     """Format a plain-text report for a terminal.
 
     With ``monte_carlo`` (a :class:`~molid.pipeline.monte_carlo.MonteCarloCheck`), a
     line under each run whose Monte Carlo interval differs from the linear one, and
-    a one-line summary after the runs.
+    a one-line summary after the runs. Control characters in the user's text are
+    shown escaped, and a line longer than ``cell_limit`` characters (a message
+    quoting an over-long cell) is cut there with a note (see :mod:`molid.io.display`).
     """
     table = result.table
     lines = _run_lines(result, top)
     if monte_carlo is not None:
         lines = _monte_carlo_lines(lines, monte_carlo)
-    if result.sample_runs:  # the JSON document combines the replicates; build it only then
+    if result.sample_runs:
         lines += _section("Samples (replicates combined)", [
-            line for entry in to_document(result, top)["samples"]
-            for line in _sample_lines(entry, top)])
+            line for entry in sample_entries(result, top) for line in _sample_lines(entry, top)])
     lines += _section("Errors (these rows were not analysed)",
                       [message for index in range(len(table)) for message in result.errors[index]])
+    runs, rows = table.text["run"].tolist(), table.row_numbers.tolist()
     lines += _section("Warnings", [
-        f"row {table.row_numbers[index]} ({table.text['run'].iat[index]}): {message}"
+        f"row {rows[index]} ({runs[index]}): {message}"
         for index in range(len(table)) for message in result.warnings[index]])
     lines += _section("Notes", [f"- {note}" for note in result.notes])
-    return "\n".join(lines) + "\n"
+    return screen_text(lines, cell_limit)
+
+
+def screen_text(lines, cell_limit: int = DEFAULT_CELL_LIMIT) -> str:
+    """Join lines for a terminal: control characters escaped, over-long lines cut, with a note if any was."""
+    shown_lines = [shown(line, cell_limit) for line in lines]
+    if any(len(line) > cell_limit and was_cut(text) for line, text in zip(lines, shown_lines,
+                                                                          strict=True)):
+        shown_lines += ["", cut_note(cell_limit)]
+    return "\n".join(shown_lines) + "\n"
+
+
+def cut_note(cell_limit: int) -> str:
+    """Say that a display cut some text, and where to find it whole."""
+    return (f"- some text is longer than {cell_limit:,} characters and is cut in this display; the "
+            "CSV and JSON outputs keep it whole (--cell-limit N shows more)")

@@ -18,6 +18,7 @@ from collections import deque
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from molid.guards import check_interrupted, held_signals, release_signals
 from molid.io.delimited import HEAD_CHARACTERS, Layout, count_rows, find_layout, frames, text_head
 from molid.io.encodings import blocks_of_file, detect_encoding, text_stream
 from molid.io.headers import resolve_headers
@@ -293,26 +294,39 @@ def stop_pool(pool, now: bool = False) -> None:
     if now:
         # ProcessPoolExecutor has no public way to end a running task; its processes are
         # in ``_processes`` (pid → multiprocessing.Process) since Python 3.2.
-        for process in list((getattr(pool, "_processes", None) or {}).values()):
+        processes = list((getattr(pool, "_processes", None) or {}).values())
+        for process in processes:
             if process.is_alive():
                 process.terminate()
+        for process in processes:
+            process.join(5)
+            if process.is_alive():  # a worker that ignored SIGTERM
+                process.kill()
+        # Not waiting: the manager thread may hold a lock the interruption left taken.
+        pool.shutdown(wait=False, cancel_futures=True)
+        return
     pool.shutdown(wait=True, cancel_futures=True)
 
 
-def _analyse_in_order(jobs, pool, workers, collect, profile, library) -> None:
+def _analyse_in_order(jobs, pool, workers, collect, profile, library, function=None) -> None:
     """Analyse the chunks, here or in the pool, and hand their outcomes to ``collect`` in order.
 
     With a pool, at most ``workers`` chunks wait beyond the one being collected, which
     bounds memory whatever the file's length; collecting the oldest first keeps the
-    output in file order.
+    output in file order. ``function(job, profile, library)`` does one job (default:
+    a chunk of the per-run CSV); in the pool it is given the job alone.
     """
+    function = _chunk_job if function is None else function
     if pool is None:
         for job in jobs:
-            collect(_chunk_job(job, profile, library))
+            check_interrupted()
+            collect(function(job, profile, library))
         return
     pending: deque = deque()
     for job in jobs:
-        pending.append(pool.submit(_chunk_job, job))
+        check_interrupted()  # a signal met while a worker was forked is not lost
+        with held_signals():  # a submit may fork a worker or start the pool's threads
+            pending.append(pool.submit(function, job))
         while len(pending) > workers:
             collect(pending.popleft().result())
     while pending:
@@ -332,12 +346,17 @@ _WORKER_STATE: dict = {}
 def _initialise_worker(profile, library):
     import gc
     import signal
+    import warnings
 
     # A Ctrl-C reaches every process of the terminal's group: the parent alone handles it
     # (and ends the workers); SIGTERM from the parent ends a worker at once, whatever
     # handler it inherited from the command line.
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    release_signals()  # forked while the parent held them back
+    # A worker's stderr is the user's terminal: no library's warning text goes there (the
+    # command line says in its own words what the main process met; see molid.guards).
+    warnings.simplefilter("ignore")
     _WORKER_STATE["profile"] = profile
     _WORKER_STATE["library"] = library
     # The loaded modules and library live as long as the worker: keep them out of the

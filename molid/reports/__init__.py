@@ -105,7 +105,7 @@ def _read_source(source):
 
 
 def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=None,
-                 graded=None, vessels=None):
+                 graded=None, vessels=None, page_limit=None, cell_limit=None):
     """Analyse a run file and build the report's page model.
 
     Parameters
@@ -124,6 +124,12 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
         Force (True) or forbid (False) the graded report; detected when None.
     vessels : VesselRegister or path, optional
         Vessel register, for runs that name a ``vessel`` instead of a ``volume``.
+    page_limit : int, optional
+        Draw at most this many samples, runs or students' sheets (default
+        :data:`~molid.reports.limits.DEFAULT_PAGE_LIMIT`); one page summarises the rest.
+    cell_limit : int, optional
+        Cut each text at this many characters (default
+        :data:`~molid.io.display.DEFAULT_CELL_LIMIT`), its control characters escaped.
 
     Returns
     -------
@@ -132,8 +138,12 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
     ok : bool
         False when some rows had errors.
     """
+    from molid.io.display import DEFAULT_CELL_LIMIT
     from molid.io.reading import read_raw, read_runs
     from molid.pipeline.identify import identify
+    from molid.reports.limits import DEFAULT_PAGE_LIMIT, bound_text
+
+    page_limit = DEFAULT_PAGE_LIMIT if page_limit is None else page_limit
 
     data, frame, name = _read_source(source)
 
@@ -144,20 +154,21 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
         return fresh() if vessels is None else read_runs(fresh(), profile=profile, vessels=vessels)
 
     if graded is None:
-        raw, _, _, _ = read_raw(fresh())
+        raw, _, _, _ = read_raw(fresh(), keep_bad_lines=True)  # only its columns are looked at
         graded = is_graded(raw.columns, key)
     moment = _generated()
     if graded:
         from molid.reports.graded import graded_report
 
         report, ok = graded_report(runs(), key=key, rubric=rubric, profile=profile,
-                                   library=library, top=top)
+                                   library=library, top=top, page_limit=page_limit)
     else:
         from molid.reports.content import identify_report
 
         result = identify(fresh(), profile=profile, library=library, vessels=vessels)
-        report = identify_report(result, top=top)
+        report = identify_report(result, top=top, page_limit=page_limit)
         ok = bool(result.ok.all())
+    bound_text(report, DEFAULT_CELL_LIMIT if cell_limit is None else cell_limit)
     from molid import __version__
 
     report.version = __version__
@@ -188,7 +199,8 @@ def format_for(output, format):
 
 
 def write_report(source, output, *, format=None, paper="a4", profile=None, library=None, provenance=None,
-                 top=5, key=None, rubric=None, force=False, inputs=(), vessels=None):
+                 top=5, key=None, rubric=None, force=False, inputs=(), vessels=None,
+                 page_limit=None, cell_limit=None):
     """Analyse ``source`` and write its report to ``output`` (atomically).
 
     Parameters
@@ -212,6 +224,8 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
         Other files the command reads; the output may not be one of them.
     vessels : VesselRegister or path, optional
         Vessel register, for runs that name a ``vessel`` instead of a ``volume``.
+    page_limit, cell_limit : int, optional
+        As for :func:`build_report`.
 
     Returns
     -------
@@ -227,7 +241,8 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
     path = check_output_path(output, [source_path, profile if isinstance(profile, (str, Path))
                                       else None, key, rubric, *inputs], force)
     report, ok = build_report(source, profile=profile, library=library, top=top, key=key,
-                              rubric=rubric, vessels=vessels)
+                              rubric=rubric, vessels=vessels, page_limit=page_limit,
+                              cell_limit=cell_limit)
     from molid.reports.provenance_block import add_provenance
 
     add_provenance(report, provenance, source=source, profile=profile, library=library, key=key,

@@ -200,6 +200,8 @@ def format_with_uncertainty(value, expanded, unit="") -> str:
     """
     if value is None or not np.isfinite(value):
         return "–"
+    if expanded is None or not np.isfinite(expanded):  # a value whose uncertainty could not be had
+        return f"{format_number(value, 6)} ± –{unit}"
     decimals = _decimals(expanded)
     return f"{value:.{decimals}f} ± {expanded:.{decimals}f}{unit}"
 
@@ -216,6 +218,17 @@ def format_number(value, digits=10) -> str:
         return "–"
     text = f"{value:.{digits}g}"
     return text.replace("-", "−") if text.startswith("-") else text
+
+
+def _expanded(u):
+    """Give the expanded uncertainty k·u, None when u is missing."""
+    return None if u is None else COVERAGE_FACTOR * u
+
+
+def _fixed(value, places) -> str:
+    if value is None or not np.isfinite(value):
+        return "–"
+    return f"{value:.{places}f}"
 
 
 def _signed(value, places=2) -> str:
@@ -555,8 +568,8 @@ def _candidate_rows(items, residual_cells=None):
     for position, item in enumerate(items):
         measured = item["measured"]
         row = [str(item["rank"]), item["name"], item["formula"] or "–", f"{item['molar_mass']:.3f}",
-               format_with_uncertainty(measured["value"], COVERAGE_FACTOR * measured["u"]),
-               f"{item['Z']:.4f}", _signed(item["z"])]
+               format_with_uncertainty(measured["value"], _expanded(measured["u"])),
+               _fixed(item["Z"], 4), _signed(item["z"])]
         rows.append(row + list(residual_cells[position] if residual_cells else ()) + [item["verdict"]])
         styles.append([None] * (len(rows[-1]) - 1) + [item["verdict"]])
     return rows, styles
@@ -684,9 +697,11 @@ def _figure(spec):
 def _plot_block(value, expanded, nearby, label_name) -> Plot:
     import molid.reports.figures as figures
 
+    # a candidate whose value as that gas could not be had has no point on the axis
     points = [(item["name"], item["molar_mass"], item["measured"]["value"],
                COVERAGE_FACTOR * item["measured"]["u"], item["verdict"],
-               item["name"] == label_name) for item in nearby]
+               item["name"] == label_name) for item in nearby
+              if item["measured"]["value"] is not None and item["measured"]["u"] is not None]
 
     spec = ("axis", float(value), float(expanded), points, 90.0, 43.0)
 
@@ -880,7 +895,7 @@ def _library_hazards(result) -> dict:
             zip(library["name"], library["ghs_hazards"], strict=True)}
 
 
-def identify_report(result, *, top=5, title="Gas identification report") -> Report:
+def identify_report(result, *, top=5, title="Gas identification report", page_limit=None) -> Report:
     """Build the page model of an identification: a page per sample, or per run without one.
 
     Parameters
@@ -891,6 +906,9 @@ def identify_report(result, *, top=5, title="Gas identification report") -> Repo
         How many ranked candidates each page lists.
     title : str
         The report title printed on every page.
+    page_limit : int, optional
+        Draw at most this many samples and runs; one page summarises the rest (see
+        :mod:`molid.reports.limits`).
 
     Returns
     -------
@@ -911,6 +929,39 @@ def identify_report(result, *, top=5, title="Gas identification report") -> Repo
             columns["operator_label"] = "Student" if header == "student" else "Operator"
             break
     hazards = _library_hazards(result)
+    groups = _groups(result)
+    drawn = groups if page_limit is None else groups[:page_limit]
     pages = [_page_for(result, key, positions, run_labels, columns, top, hazards)
-             for key, positions in _groups(result)]
+             for key, positions in drawn]
+    if len(drawn) < len(groups):
+        pages.append(_omitted_page(result, groups[len(drawn):], page_limit, run_labels))
     return Report(title, table.source or "data", pages)
+
+
+def _omitted_page(result, groups, page_limit, run_labels) -> Page:
+    """Summarise the samples and runs beyond the page limit on one page, naming the unidentified."""
+    from molid.candidates.hazards import load_cautions
+    from molid.reports.limits import MOST_NAMED, group_identified
+
+    positions = [p for _, members in groups for p in members]
+    errors = sum(1 for p in positions if result.errors[p])
+    identified = group_identified(result, groups)
+    names = [f"sample {ident}" if kind == "sample" else f"run {run_labels[ident]}"
+             for (kind, ident), _ in groups]
+    unknown = [name for name, found in zip(names, identified, strict=True) if found is False]
+    blocks = [
+        Highlight([f"{len(groups):,} more samples and runs are not drawn",
+                   f"This report draws the first {page_limit:,} (--max-pages); the rest are "
+                   "counted here. The per-run CSV (molid identify FILE -o out.csv) and the JSON "
+                   "document (--json) hold every run."]),
+        Fields([("Not drawn", f"{len(groups):,} samples and runs without a sample"),
+                ("Their runs", f"{len(positions):,}, of which {errors:,} with errors"),
+                ("Identified", f"{identified.count(True):,}"), ("Unidentified", f"{len(unknown):,}"),
+                ("No result", f"{sum(1 for found in identified if found is None):,}")]),
+    ]
+    if unknown:
+        more = [f"… and {len(unknown) - MOST_NAMED:,} more: see the CSV or JSON"] \
+            if len(unknown) > MOST_NAMED else []
+        blocks.append(Bullets("Unidentified gases among them", unknown[:MOST_NAMED] + more,
+                              "safety", lead=load_cautions()["unidentified"]["caution"]))
+    return Page("Samples and runs not drawn", "", blocks, key="not drawn")

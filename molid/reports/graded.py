@@ -233,7 +233,8 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top, ty
     diagnosis = _diagnosis_items(frame)
     if diagnosis:
         blocks.append(Bullets("Diagnosis", diagnosis, "note"))
-    table_positions = [_table_position(result, row) for row in frame.itertuples(index=False)]
+    table_positions = [_table_position(result, row, columns.get("positions"))
+                       for row in frame.itertuples(index=False)]
     table_positions = [p for p in table_positions if p is not None]
     if table_positions:
         blocks += _readings_blocks(grading, frame, table_positions, run_labels)
@@ -250,8 +251,10 @@ def _student_page(grading, key, positions, run_labels, columns, hazards, top, ty
     return Page(title, "", blocks, key=str(ident))
 
 
-def _table_position(result, row):
+def _table_position(result, row, positions=None):
     """Find the identification's table position of a graded row (by spreadsheet row)."""
+    if positions is not None:
+        return positions.get(int(row.row))
     matches = np.flatnonzero(result.table.row_numbers == int(row.row))
     return int(matches[0]) if len(matches) else None
 
@@ -331,7 +334,22 @@ def _summary_pages(grading) -> list:
     return pages
 
 
-def graded_report(source, *, key=None, rubric=None, profile=None, library=None, top=5):
+def _omitted_page(grades, groups, page_limit) -> Page:
+    """Count the students' sheets beyond the page limit on one page (the class summary follows)."""
+    positions = [p for _, members in groups for p in members]
+    not_graded = int(grades["error"].iloc[positions].notna().sum()) if positions else 0
+    return Page("Sheets not drawn", "", [
+        Highlight([f"{len(groups):,} more sheets are not drawn",
+                   f"This report draws the first {page_limit:,} sheets (--max-pages); the class "
+                   "summary that follows covers every run, and the grades CSV (molid grade FILE "
+                   "-o grades.csv) lists each one."]),
+        Fields([("Not drawn", f"{len(groups):,} sheets"),
+                ("Their runs", f"{len(positions):,}, of which {not_graded:,} not graded")]),
+    ], key="not drawn")
+
+
+def graded_report(source, *, key=None, rubric=None, profile=None, library=None, top=5,
+                  page_limit=None):
     """Build the page model of a graded file: a sheet per student, then the class summary.
 
     Parameters
@@ -342,6 +360,9 @@ def graded_report(source, *, key=None, rubric=None, profile=None, library=None, 
         As for :func:`molid.teaching.grading.grade`.
     top : int
         Ranked candidates considered for each sheet's plot.
+    page_limit : int, optional
+        Draw at most this many students' sheets; one page counts the rest (the class
+        summary covers every run).
 
     Returns
     -------
@@ -367,8 +388,14 @@ def graded_report(source, *, key=None, rubric=None, profile=None, library=None, 
     cells = _free_column(table.raw, ("reported_molar_mass",))
     typed = {} if cells is None else {int(number): cell for number, cell in
                                       zip(table.row_numbers, cells, strict=True) if cell}
+    # each graded row's place in the identification, found once (not by a scan per row)
+    columns["positions"] = {int(row): k for k, row in enumerate(table.row_numbers)}
+    groups = _groups(grading.grades)
+    drawn = groups if page_limit is None else groups[:page_limit]
     pages = [_student_page(grading, group, positions, run_labels, columns, hazards, top, typed)
-             for group, positions in _groups(grading.grades)]
+             for group, positions in drawn]
+    if len(drawn) < len(groups):
+        pages.append(_omitted_page(grading.grades, groups[len(drawn):], page_limit))
     pages += _summary_pages(grading)
     ok = bool(grading.grades["error"].isna().all())
     return Report("Graded lab report", table.source or "data", pages), ok

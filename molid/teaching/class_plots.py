@@ -3,6 +3,13 @@
 matplotlib is imported inside the functions (it is slow to import and only
 these plots need it); figures are drawn on the Agg canvas without pyplot, so
 nothing here touches a global backend or opens a window.
+
+User text is drawn literally (:func:`molid.io.display.drawable`: no mathematics
+markup, control characters escaped, at most 60 characters a label), and no value
+that is not finite reaches an axis: a percent error beyond ±10⁶ % (a reported value
+a thousand times too large, or too large for the arithmetic) is drawn at the edge
+of the axis and marked "off the scale". The interval plot draws at most
+:data:`MOST_INTERVALS` runs.
 """
 
 from __future__ import annotations
@@ -12,7 +19,15 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["PLOT_FILES", "percent_error_figure", "interval_figure", "write_class_plots"]
+from molid.io.display import drawable
+
+__all__ = ["PLOT_FILES", "MOST_INTERVALS", "percent_error_figure", "interval_figure",
+           "write_class_plots"]
+
+#: Percent errors beyond ± this are drawn at the edge of the axis, marked "off the scale".
+_REACH = 1e6
+#: The most runs the interval plot draws (one row each); a note says how many are left out.
+MOST_INTERVALS = 300
 
 #: The files :func:`write_class_plots` writes, in order.
 PLOT_FILES = ("percent_error.png", "percent_error.svg", "intervals.png", "intervals.svg")
@@ -69,7 +84,8 @@ _STYLES = {
 
 def _draw_unknown(axes, place, group, seen):
     """Draw the runs of one unknown in its column, and their median; ``seen`` holds legend entries."""
-    errors = group["percent_error"].to_numpy(dtype=float)
+    every = group["percent_error"].to_numpy(dtype=float)
+    errors = np.clip(every, -_REACH, _REACH)  # NaN stays NaN and is not drawn
     count = len(group)
     # spread the runs of one unknown evenly across its column
     offsets = np.linspace(-0.25, 0.25, count) if count > 1 else np.zeros(1)
@@ -85,7 +101,10 @@ def _draw_unknown(axes, place, group, seen):
         seen.add(kind)
         axes.scatter([place + offset], [error], s=46 if kind == "correct" else 70,
                      zorder=3, label=legend, edgecolors="white", linewidths=0.6, **style)
-        if kind != "correct":
+        off_scale = abs(error) >= _REACH
+        if off_scale:
+            label = "off the scale" if kind == "correct" else f"{label} (off the scale)"
+        if kind != "correct" or off_scale:
             # alternate above and below, so labels of neighbouring runs do not collide
             axes.annotate(label, (place + offset, error),
                           xytext=(0, 10 if flagged % 2 == 0 else -11),
@@ -118,7 +137,7 @@ def percent_error_figure(grading):
         and labelled with the mistake, the median of each unknown as a bar.
     """
     graded = _graded(grading)
-    unknowns = sorted(graded["unknown"].dropna().unique())
+    unknowns = sorted(graded["unknown"].dropna().unique(), key=str)
     figure = _figure(max(6.0, 1.1 * len(unknowns) + 2.5), 4.8)
     axes = figure.add_subplot()
     axes.axhspan(-1.0, 1.0, color="#e8f0e0", zorder=0, label="within ±1 %")
@@ -127,13 +146,14 @@ def percent_error_figure(grading):
     for place, unknown in enumerate(unknowns):
         _draw_unknown(axes, place, graded[graded["unknown"] == unknown], seen)
     axes.set_yscale("symlog", linthresh=1.0)
-    every = graded["percent_error"].to_numpy(dtype=float)
+    every = np.clip(graded["percent_error"].to_numpy(dtype=float), -_REACH, _REACH)
     every = every[np.isfinite(every)]
     if every.size:
         # room above and below the extreme points for their labels
         low, high = min(every.min(), -2.0), max(every.max(), 2.0)
         axes.set_ylim(low * 4.0, high * 4.0)
-    axes.set_xticks(range(len(unknowns)), unknowns, rotation=30, ha="right")
+    axes.set_xticks(range(len(unknowns)), [drawable(name) for name in unknowns], rotation=30,
+                    ha="right")
     axes.set_xlim(-0.6, len(unknowns) - 0.4)
     axes.set_ylabel("percent error of the student's result [%]\n(linear within ±1 %, "
                     "logarithmic beyond)")
@@ -152,7 +172,8 @@ def _interval_limit(deviation, half_width) -> float:
     reach = np.abs(deviation) + half_width
     # a few wide intervals (light gases in a syringe) must not squash all the others
     limit = max(0.5, float(np.nanpercentile(reach, 80)) * 1.6) if count else 1.0
-    return min(limit, float(np.nanmax(reach)) * 1.05) if count else limit
+    limit = min(limit, float(np.nanmax(reach)) * 1.05) if count else limit
+    return min(limit, _REACH)
 
 
 def _draw_intervals(axes, y, deviation, half_width, inside, limit):
@@ -174,7 +195,7 @@ def _draw_intervals(axes, y, deviation, half_width, inside, limit):
 def _label_runs(axes, y, graded):
     """Name each run on the left, coloured by the kind of its reported result; return the kinds."""
     names = [
-        f"{run}  {student if isinstance(student, str) else ''}  ({unknown})"
+        drawable(f"{run}  {student if isinstance(student, str) else ''}  ({unknown})")
         for run, student, unknown in zip(graded["run"], graded["student"], graded["unknown"],
                                          strict=True)
     ]
@@ -215,14 +236,17 @@ def interval_figure(grading):
         value has a diagnosed mistake are labelled in red with the mistake.
     """
     graded = _graded(grading).sort_values(["unknown", "row"], kind="stable")
-    graded = graded[np.isfinite(graded["true_gas_molar_mass"].to_numpy(dtype=float))]
+    true_mass = graded["true_molar_mass"].to_numpy(dtype=float)
+    with np.errstate(all="ignore"):  # a result too large for the arithmetic is left out below
+        deviation = 100.0 * (graded["true_gas_molar_mass"].to_numpy(dtype=float) - true_mass) / true_mass
+        half_width = 100.0 * graded["true_gas_U"].to_numpy(dtype=float) / true_mass
+    drawn = np.isfinite(deviation) & np.isfinite(half_width)
+    total = int(drawn.sum())
+    drawn &= np.cumsum(drawn) <= MOST_INTERVALS
+    graded, deviation, half_width = graded[drawn], deviation[drawn], half_width[drawn]
     count = len(graded)
     figure = _figure(9.0, max(3.0, 0.28 * count + 1.6))
     axes = figure.add_subplot()
-    true_mass = graded["true_molar_mass"].to_numpy(dtype=float)
-    recomputed = graded["true_gas_molar_mass"].to_numpy(dtype=float)
-    deviation = 100.0 * (recomputed - true_mass) / true_mass
-    half_width = 100.0 * graded["true_gas_U"].to_numpy(dtype=float) / true_mass
     inside = graded["in_interval"].fillna(False).to_numpy(dtype=bool)
     y = np.arange(count)[::-1]
     limit = _interval_limit(deviation, half_width)
@@ -233,8 +257,9 @@ def interval_figure(grading):
     _label_reported_mistakes(axes, y, kinds, graded["label"])
     axes.set_xlabel("recomputed molar mass for the true gas − true molar mass [%]\n"
                     "(bars: expanded uncertainty U, k = 2)")
+    shown = f"; the first {count} of {total} runs" if total > count else ""
     axes.set_title("Recomputed interval of each run against the true molar mass\n"
-                   "(from the students' readings; coloured: the reported value disagrees)",
+                   f"(from the students' readings; coloured: the reported value disagrees{shown})",
                    fontsize=10)
     axes.grid(axis="x", color="#dddddd", linewidth=0.6)
     axes.legend(loc="lower left", fontsize=8, framealpha=0.9)

@@ -112,29 +112,42 @@ def grades_csv(grading: Grading) -> str:
 
     from molid.io.safe_files import neutralise_cell
 
-    buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow([header for _, header in _CSV_COLUMNS])
+    # The csv module quotes a field holding a character of its line terminator: with "\r\n"
+    # a carriage return inside a cell is quoted too (RFC 4180, 2.6); each line then ends "\n".
+    row = io.StringIO()
+    writer = csv.writer(row, lineterminator="\r\n")
+    lines = []
+
+    def write(cells):
+        row.seek(0)
+        row.truncate()
+        writer.writerow(cells)
+        lines.append(row.getvalue()[:-2] + "\n")
+
+    write([header for _, header in _CSV_COLUMNS])
     frame = grading.grades
+    columns = [frame[name].tolist() for name, _ in _CSV_COLUMNS]
     for index in range(len(frame)):
-        writer.writerow([neutralise_cell(_csv_cell(frame[name].iat[index]))
-                         for name, _ in _CSV_COLUMNS])
-    return buffer.getvalue()
+        write([neutralise_cell(_csv_cell(column[index])) for column in columns])
+    return "".join(lines)
 
 
 # -- terminal table ---------------------------------------------------------------------
 
 def _cut(text, width) -> str:
     """Shorten a text to a column width, marking the cut with an ellipsis."""
-    text = "" if text is None else str(text)
+    from molid.io.display import escape_controls
+
+    text = "" if text is None else escape_controls(text)  # escaped first: the width is what shows
     return text if len(text) <= width else text[: width - 1] + "…"
 
 
 def _number_text(value, digits=2, sign=False) -> str:
-    """Format a number with fixed decimals, or ``-`` when it is missing."""
+    """Format a number with fixed decimals (four significant digits when huge), ``-`` when missing."""
     if value is None or not np.isfinite(value):
         return "-"
-    return f"{value:+.{digits}f}" if sign else f"{value:.{digits}f}"
+    style = f".{digits}f" if abs(value) < 1e9 else ".4g"  # a 1e308 typed in fits the column
+    return f"{value:+{style}}" if sign else f"{value:{style}}"
 
 
 def _spread_text(value) -> str:
@@ -213,8 +226,15 @@ def _remark_lines(grading: Grading) -> list:
     return lines
 
 
-def grades_table(grading: Grading) -> str:
-    """Format the grades and the summary as plain text for a terminal."""
+def grades_table(grading: Grading, cell_limit: int | None = None) -> str:
+    """Format the grades and the summary as plain text for a terminal.
+
+    Control characters in the user's text are shown escaped and a line longer than
+    ``cell_limit`` characters is cut (see :func:`molid.io.terminal.screen_text`).
+    """
+    from molid.io.display import DEFAULT_CELL_LIMIT
+    from molid.io.terminal import screen_text
+
     lines = (_run_lines(grading.grades) + _summary_lines(grading.summary)
              + _remark_lines(grading))
-    return "\n".join(lines) + "\n"
+    return screen_text(lines, DEFAULT_CELL_LIMIT if cell_limit is None else cell_limit)

@@ -213,7 +213,7 @@ def _mode(arguments: dict) -> str:
     from molid.io.reading import read_raw
     from molid.reports import is_graded
 
-    raw = read_raw(_run_source(arguments))[0]
+    raw = read_raw(_run_source(arguments), keep_bad_lines=True)[0]  # only its columns are looked at
     return "grade" if is_graded(raw.columns, _path(arguments, "key")) else "identify"
 
 

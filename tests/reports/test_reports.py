@@ -436,3 +436,19 @@ def test_budget_sensitivities_follow_the_ideal_gas_law(tmp_path):
     assert rows["gas pressure"] == pytest.approx(-molar_mass / 100.39, rel=0.02)  # per kPa
     assert rows["gas temperature"] == pytest.approx(molar_mass / kelvin, rel=0.02)  # per K
     assert rows["volume"] == pytest.approx(-molar_mass / 500.12, rel=0.02)  # per mL
+
+
+def test_a_candidate_without_a_value_as_that_gas_is_shown_with_dashes():
+    """Checks behaviour: a candidate whose Z or value could not be had (null in the JSON) is a row of dashes.
+
+    Such a candidate (no real root of the virial equation at the run's state) once made
+    the report stop with an internal error.
+    """
+    from molid.reports.content import _candidate_rows
+
+    item = {"rank": 7, "name": "heavy vapour", "formula": "C9H20", "molar_mass": 128.26,
+            "measured": {"value": None, "u": None}, "Z": None, "z": None, "verdict": "excluded"}
+    rows, _ = _candidate_rows([item])
+    assert rows[0][4:7] == ["–", "–", "–"]
+    item["measured"] = {"value": 127.9, "u": None}
+    assert _candidate_rows([item])[0][0][4] == "127.9 ± –"
