@@ -98,8 +98,9 @@ def _axis_axes(axes, value, expanded, points):
     axes.set_ylim(-0.7, max(len(points), 1) - 0.3)
     axes.set_yticks(list(range(len(points))), labels)
     axes.set_xlabel("molar mass [g/mol]")
-    axes.set_title("◇ candidate's M  ·  ● value if it is that gas, ±U  ·  grey: result, ±U",
-                   loc="left", fontsize=5.8)
+    # the key starts at the figure's edge, not the axes': long names push the axes right
+    axes.figure.text(0.015, 0.97, "◇ candidate's M  ·  ● value if it is that gas, ±U  ·  grey: result, ±U",
+                     ha="left", va="top", fontsize=5.8)
     axes.grid(axis="x", color="#eeeeee", lw=0.5)
     axes.spines[["top", "right"]].set_visible(False)
     axes.ticklabel_format(axis="x", useOffset=False)
