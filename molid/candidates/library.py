@@ -29,10 +29,9 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-from periodictable.formulas import from_subscript
 
 from molid.cache import content_key, read_document, write_document
-from molid.physics.formulas import hill_formula, molar_mass
+from molid.physics.formulas import from_subscript, hill_formula, molar_mass, periodictable_fingerprint
 from molid.physics.virial import POLAR_CLASSES
 
 __all__ = [
@@ -465,20 +464,20 @@ def _parse_table(table, source, origin, known_formulas=None):
 def _formula_cache_name(path):
     """Name the user-cache document of a library file's formulas, or None when it cannot be read.
 
-    The name carries a hash of the file's bytes, periodictable's version and the code of
-    :mod:`molid.physics.formulas`, so any change to what the formulas' Hill forms and molar
-    masses depend on misses the cache.
+    The name carries a hash of the file's bytes, periodictable's version and files
+    (:func:`~molid.physics.formulas.periodictable_fingerprint`, read without importing it)
+    and the code of :mod:`molid.physics.formulas`, so any change to what the formulas'
+    Hill forms and molar masses depend on misses the cache.
     """
-    import periodictable
-
     from molid.physics import formulas
 
+    fingerprint = periodictable_fingerprint()
     try:
         data = Path(path).read_bytes()
         code = Path(formulas.__file__).read_bytes()
     except OSError:
         return None
-    return f"formulas-{content_key(data, periodictable.__version__, code)}.json"
+    return None if fingerprint is None else f"formulas-{content_key(data, fingerprint, code)}.json"
 
 
 def _read_library_file(path, origin):

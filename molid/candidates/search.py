@@ -11,19 +11,23 @@ import functools
 import re
 
 import numpy as np
-import periodictable
-from periodictable.formulas import from_subscript
 
 from molid.candidates.library import copy_library
-from molid.physics.formulas import hill_formula
+from molid.physics.formulas import from_subscript, hill_formula
 
 __all__ = ["find_candidate", "search_library"]
 
-# Element symbols periodictable knows, including D and T for hydrogen isotopes.
-_SYMBOLS = frozenset(element.symbol for element in periodictable.elements if element.number > 0) | {
-    "D",
-    "T",
-}
+
+@functools.lru_cache(maxsize=1)
+def _element_symbols():
+    """Element symbols periodictable knows, including D and T for hydrogen isotopes.
+
+    Read on first use: importing periodictable costs more than a one-run analysis, and
+    only a wrongly-cased formula needs the symbols.
+    """
+    import periodictable
+
+    return frozenset(element.symbol for element in periodictable.elements if element.number > 0) | {"D", "T"}
 
 
 def _name_key(text):
@@ -57,7 +61,7 @@ def _symbol_splits(letters):
     splits = []
     for size in (1, 2):
         symbol = letters[:size].capitalize()
-        if len(letters) >= size and symbol in _SYMBOLS:
+        if len(letters) >= size and symbol in _element_symbols():
             splits.extend(symbol + rest for rest in _symbol_splits(letters[size:]))
     return tuple(splits)
 

@@ -7,18 +7,28 @@ nothing here types an atomic weight.
 
 Molar masses are returned in SI units, kg/mol, like every quantity inside the
 library; multiply by 1000 for the g/mol of everyday use.
+
+periodictable (and the parser it is built on) is imported only when a formula is
+parsed: importing it costs more than the rest of a one-run analysis, so the molar
+masses molid needs at every start are read back from the user cache
+(:mod:`molid.cache`) under a key that holds periodictable's version and files
+(:func:`periodictable_fingerprint`), and are still periodictable's.
 """
 
+import functools
+import importlib.util
 import re
+from pathlib import Path
 
-import periodictable
-from periodictable.core import isisotope
-from periodictable.formulas import Formula, from_subscript
+from molid.cache import content_key, read_document, write_document
 
 __all__ = [
+    "from_subscript",
     "parse_formula",
     "hill_formula",
     "molar_mass",
+    "cached_molar_mass",
+    "periodictable_fingerprint",
     "same_formula",
 ]
 
@@ -38,6 +48,66 @@ _ALLOWED = re.compile(r"[A-Za-z0-9()\[\]]")
 # A letter run that cannot start an element symbol: a lower-case letter after a
 # non-letter, or at the start.
 _LOWER_START = re.compile(r"(?:^|[^A-Za-z])([a-z])")
+
+
+# Unicode subscripts and the plain characters they stand for, as periodictable's
+# ``formulas.from_subscript`` maps them.
+_SUBSCRIPTS = str.maketrans(
+    "\u2080\u2081\u2082\u2083\u2084\u2085\u2086\u2087\u2088\u2089\u208a\u208b\u208c\u208d\u208e"
+    "\u2090\u2091\u2092\u2093\u2095\u2096\u2097\u2098\u2099\u209a\u209b\u209c",
+    "0123456789+-=()aeoxhklmnpst",
+)
+
+#: periodictable's files whose bytes go into the key of its cached results: the package
+#: (its version), the formula grammar, the element table and the atomic weights.
+_PERIODICTABLE_FILES = ("__init__.py", "formulas.py", "core.py", "mass.py")
+
+
+def from_subscript(text):
+    """Replace unicode subscript characters by plain ones (``C₃H₈`` becomes ``C3H8``).
+
+    Parameters
+    ----------
+    text : str
+        Any text; other characters are kept.
+
+    Returns
+    -------
+    str
+        The text with subscript digits, signs, brackets and letters made plain.
+
+    Notes
+    -----
+    The same mapping as periodictable's ``formulas.from_subscript``, kept here so
+    that reading a label does not import periodictable.
+
+    Examples
+    --------
+    >>> from_subscript("CO₂")
+    'CO2'
+    """
+    return str(text).translate(_SUBSCRIPTS)
+
+
+@functools.lru_cache(maxsize=1)
+def periodictable_fingerprint():
+    """Return what periodictable's results depend on, without importing it; None if not found.
+
+    Returns
+    -------
+    str or None
+        A hash of the installed package's files that hold its version (``__version__``),
+        formula grammar, element table and atomic weights; None when the package or one
+        of the files cannot be read.
+    """
+    spec = importlib.util.find_spec("periodictable")
+    if spec is None or not spec.submodule_search_locations:
+        return None
+    package = Path(spec.submodule_search_locations[0])
+    try:
+        return content_key(*[(package / name).read_bytes() for name in _PERIODICTABLE_FILES])
+    except OSError:
+        return None
 
 
 def _fail(text, reason):
@@ -86,6 +156,9 @@ def parse_formula(text):
     ...
     ValueError: not a chemical formula: 'co2': element symbols start with a capital letter ...
     """
+    import periodictable
+    from periodictable.formulas import Formula
+
     if isinstance(text, Formula):
         return text
     if not isinstance(text, str):
@@ -122,6 +195,8 @@ def parse_formula(text):
 
 def _hill_key(atom):
     """Sort key placing an atom in Hill order; isotopes follow their element."""
+    from periodictable.core import isisotope
+
     if isisotope(atom):
         symbol, mass_number = atom.element.symbol, atom.isotope
     else:
@@ -131,6 +206,8 @@ def _hill_key(atom):
 
 def _atom_text(atom):
     """Write one atom in periodictable syntax: D and T as such, else Sym[mass]."""
+    from periodictable.core import isisotope
+
     if isisotope(atom) and atom.symbol not in ("D", "T"):
         return f"{atom.element.symbol}[{atom.isotope}]"
     return atom.symbol
@@ -225,6 +302,56 @@ def molar_mass(text_or_formula):
     44.009
     """
     return parse_formula(text_or_formula).mass * 1e-3
+
+
+def _molar_mass_cache_name():
+    """Name the user-cache document of :func:`cached_molar_mass`, or None when it cannot be named."""
+    fingerprint = periodictable_fingerprint()
+    try:
+        code = Path(__file__).read_bytes()
+    except OSError:
+        return None
+    return None if fingerprint is None else f"molar-masses-{content_key(fingerprint, code)}.json"
+
+
+@functools.lru_cache(maxsize=64)
+def cached_molar_mass(text):
+    """Molar mass of a formula from periodictable, kept in the user cache between processes.
+
+    Parameters
+    ----------
+    text : str
+        Any formula :func:`parse_formula` accepts.
+
+    Returns
+    -------
+    float
+        Molar mass [kg/mol], the same float :func:`molar_mass` returns.
+
+    Notes
+    -----
+    For the few fixed formulas molid needs at every start (water's molar mass in
+    the wet-gas model): the value is read from a JSON document in the user cache
+    (:mod:`molid.cache`, which gives a float back to the last bit) whose name holds
+    :func:`periodictable_fingerprint` and this module's code, so another
+    periodictable misses it. On a miss the value is computed by :func:`molar_mass`
+    and added to the document.
+
+    Examples
+    --------
+    >>> cached_molar_mass("CO2") == molar_mass("CO2")
+    True
+    """
+    name = _molar_mass_cache_name()
+    document = read_document(name) if name else None
+    document = document if isinstance(document, dict) else {}
+    value = document.get(text)
+    if isinstance(value, float):
+        return value
+    value = molar_mass(text)
+    if name:
+        write_document(name, {**document, text: value})
+    return value
 
 
 def same_formula(first, second):

@@ -16,9 +16,9 @@ rounding. Range checks live in the separate `saturation_pressure_valid`.
 """
 
 import numpy as np
-import periodictable
 
 from molid.physics.constants import STANDARD_ATMOSPHERE, ZERO_CELSIUS
+from molid.physics.formulas import cached_molar_mass
 
 __all__ = [
     "CRITICAL_PRESSURE_WATER",
@@ -45,8 +45,9 @@ CRITICAL_PRESSURE_WATER = 22.064e6
 #: point; Wagner & Pruss 2002, eq. 2.2a).
 TRIPLE_POINT_TEMPERATURE_WATER = 273.16
 
-#: Molar mass of H2O [kg/mol] from the atomic weights tabulated by periodictable.
-MOLAR_MASS_WATER = periodictable.formula("H2O").mass / 1000.0
+#: Molar mass of H2O [kg/mol] from the atomic weights tabulated by periodictable (read back from
+#: the user cache after the first process, so that importing this module does not import it).
+MOLAR_MASS_WATER = cached_molar_mass("H2O")
 
 # Coefficients a_1 ... a_6 and exponents of eq. (2.5) in Wagner & Pruss (2002),
 # identical to IAPWS SR1-86(1992).
