@@ -112,6 +112,10 @@ def _add_quality(parser):
     parser.add_argument("--rule", choices=("guarded", "simple"), default="guarded",
                         help="decision rule for conformity (JCGM 106:2012): guarded acceptance with "
                         "the guard band U (default), or simple acceptance")
+    _add_reference_conditions(parser)
+
+
+def _add_reference_conditions(parser):
     parser.add_argument("--reference-conditions", type=_reference_conditions, metavar="'T, p'",
                         help="temperature and pressure at which each consistent candidate's density is "
                         "given, with units, e.g. '15 degC, 101.325 kPa' (default 0 degC, 101.325 kPa)")
@@ -123,6 +127,23 @@ def _add_page_limit(parser):
     parser.add_argument("--max-pages", type=_positive_int, default=500, metavar="N",
                         help="samples, runs or students' sheets drawn (default 500); one page "
                         "counts the rest and names every unidentified gas among them")
+
+
+def _add_report(commands):
+    """Add the report command."""
+    report = commands.add_parser(
+        "report", help="printable report: a page per sample, a sheet per student",
+        description="Write a PDF (or self-contained HTML) report of an identify-style or graded file.",
+    )
+    _add_common(report)
+    report.add_argument("-o", "--output", metavar="FILE", required=True,
+                        help="report file to write (.pdf or .html)")
+    report.add_argument("--format", choices=("pdf", "html"),
+                        help="report format (default: from the file name, else pdf)")
+    report.add_argument("--key", metavar="CSV", help="answer key, for graded reports")
+    report.add_argument("--rubric", metavar="TOML", help="rubric file, for graded reports")
+    _add_reference_conditions(report)
+    _add_page_limit(report)
 
 
 def _add_verify(commands):
@@ -201,18 +222,7 @@ def build_parser() -> argparse.ArgumentParser:
     grade.add_argument("-o", "--output", metavar="CSV", help="write the grades CSV")
     grade.add_argument("--plots", metavar="DIR", help="write class plots (PNG and SVG) to DIR")
 
-    report = commands.add_parser(
-        "report", help="printable report: a page per sample, a sheet per student",
-        description="Write a PDF (or self-contained HTML) report of an identify-style or graded file.",
-    )
-    _add_common(report)
-    report.add_argument("-o", "--output", metavar="FILE", required=True,
-                        help="report file to write (.pdf or .html)")
-    report.add_argument("--format", choices=("pdf", "html"),
-                        help="report format (default: from the file name, else pdf)")
-    report.add_argument("--key", metavar="CSV", help="answer key, for graded reports")
-    report.add_argument("--rubric", metavar="TOML", help="rubric file, for graded reports")
-    _add_page_limit(report)
+    _add_report(commands)
 
     calibrate = _add_verify(commands).add_parser(
         "calibrate", help="volume of each vessel from water-fill weighings (ISO 4787)",
@@ -492,7 +502,7 @@ def _report(args) -> int:
         _run_source(args), args.output, format=args.format, paper=args.paper, profile=args.profile,
         library=library, top=args.top, key=args.key, rubric=args.rubric, provenance=record.finish(library),
         force=args.force, inputs=[args.file, args.library, args.vessels], vessels=args.vessels,
-        page_limit=args.max_pages, cell_limit=args.cell_limit,
+        page_limit=args.max_pages, cell_limit=args.cell_limit, reference_conditions=args.reference_conditions,
     )
     _wrote(path)
     suffix = Path(str(path)).suffix.lower()

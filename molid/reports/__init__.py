@@ -105,7 +105,7 @@ def _read_source(source):
 
 
 def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=None,
-                 graded=None, vessels=None, page_limit=None, cell_limit=None):
+                 graded=None, vessels=None, page_limit=None, cell_limit=None, reference_conditions=None):
     """Analyse a run file and build the report's page model.
 
     Parameters
@@ -130,6 +130,9 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
     cell_limit : int, optional
         Cut each text at this many characters (default
         :data:`~molid.io.display.DEFAULT_CELL_LIMIT`), its control characters escaped.
+    reference_conditions : tuple of float, optional
+        Temperature [K] and pressure [Pa] at which each page's leading candidate's density is
+        given; 0 °C and 101.325 kPa when None. Graded reports do not show it.
 
     Returns
     -------
@@ -165,7 +168,8 @@ def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=
     else:
         from molid.reports.content import identify_report
 
-        result = identify(fresh(), profile=profile, library=library, vessels=vessels)
+        result = identify(fresh(), profile=profile, library=library, vessels=vessels,
+                          reference_conditions=reference_conditions)
         report = identify_report(result, top=top, page_limit=page_limit)
         ok = bool(result.ok.all())
     bound_text(report, DEFAULT_CELL_LIMIT if cell_limit is None else cell_limit)
@@ -200,7 +204,7 @@ def format_for(output, format):
 
 def write_report(source, output, *, format=None, paper="a4", profile=None, library=None, provenance=None,
                  top=5, key=None, rubric=None, force=False, inputs=(), vessels=None,
-                 page_limit=None, cell_limit=None):
+                 page_limit=None, cell_limit=None, reference_conditions=None):
     """Analyse ``source`` and write its report to ``output`` (atomically).
 
     Parameters
@@ -226,6 +230,8 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
         Vessel register, for runs that name a ``vessel`` instead of a ``volume``.
     page_limit, cell_limit : int, optional
         As for :func:`build_report`.
+    reference_conditions : tuple of float, optional
+        As for :func:`build_report`: temperature [K] and pressure [Pa].
 
     Returns
     -------
@@ -242,10 +248,10 @@ def write_report(source, output, *, format=None, paper="a4", profile=None, libra
                                       else None, key, rubric, *inputs], force)
     report, ok = build_report(source, profile=profile, library=library, top=top, key=key,
                               rubric=rubric, vessels=vessels, page_limit=page_limit,
-                              cell_limit=cell_limit)
+                              cell_limit=cell_limit, reference_conditions=reference_conditions)
     from molid.reports.provenance_block import add_provenance
 
     add_provenance(report, provenance, source=source, profile=profile, library=library, key=key,
-                   rubric=rubric, vessels=vessels, top=top)
+                   rubric=rubric, vessels=vessels, top=top, reference_conditions=reference_conditions)
     write_atomic(path, render_report(report, format_for(path, format), paper))
     return path, ok

@@ -30,6 +30,7 @@ from molid.candidates.vapour_pressures import saturation_pressure
 from molid.candidates.verdicts import LABEL_MEANINGS, UNFIT_VERDICTS
 from molid.methods.inputs import INPUT_LABELS
 from molid.methods.registry import METHODS
+from molid.reports.density_section import DENSITY_TITLE, density_lines
 from molid.reports.purity_section import purity_finding, specification_parts
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
@@ -867,6 +868,8 @@ def _page_for(result, key, positions, run_labels, columns, top, library_hazards)
                                           label["name"] if label else None, top)
                         if flask_positions else None)
             blocks.append(_candidate_table(candidates, top, residual))
+        density = density_lines(result, key, ok_positions, candidates)
+        blocks += [Bullets(DENSITY_TITLE, density, "note")] if density else []
     findings = _findings(label, extras, candidates, top)
     purity = purity_finding(result, key, positions[0])
     findings += [purity] if purity else []

@@ -30,7 +30,7 @@ def _path(value):
 
 
 def report_provenance(source, *, profile=None, library=None, key=None, rubric=None, vessels=None,
-                      top=None) -> dict:
+                      top=None, reference_conditions=None) -> dict:
     """Record a report's provenance from the arguments of :func:`molid.reports.write_report`.
 
     Parameters
@@ -43,6 +43,8 @@ def report_provenance(source, *, profile=None, library=None, key=None, rubric=No
         The library used; the built-in one when None.
     top : int, optional
         Candidates per page.
+    reference_conditions : tuple of float, optional
+        Temperature [K] and pressure [Pa] of the reference densities; recorded when given.
 
     Returns
     -------
@@ -53,7 +55,8 @@ def report_provenance(source, *, profile=None, library=None, key=None, rubric=No
 
     run_file = _path(source)
     arguments = _Arguments(file=None if run_file == "-" else run_file, profile=_path(profile),
-                           key=_path(key), rubric=_path(rubric), vessels=_path(vessels), top=top)
+                           key=_path(key), rubric=_path(rubric), vessels=_path(vessels), top=top,
+                           reference_conditions=reference_conditions)
     record = ProvenanceRecord("report", arguments)
     if run_file == "-":
         record.inputs.insert(0, {"role": "run sheet", "path": "-", "sha256": None})

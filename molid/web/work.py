@@ -139,6 +139,7 @@ def command_line(command: str, arguments: dict, output=None) -> list:
         for name in ("monte_carlo", "seed", "contaminant", "rule", "reference_conditions"):
             add("--" + name.replace("_", "-"), options.get(name))
     if command == "report":
+        add("--reference-conditions", options.get("reference_conditions"))
         add("--output", output)
         add("--format", options.get("format"))
         add("--paper", options.get("paper"))
@@ -382,10 +383,12 @@ def report(arguments: dict, progress) -> dict:
     limits = {name: getattr(args, option) for name, option in (("page_limit", "max_pages"),
                                                                  ("cell_limit", "cell_limit"))
               if hasattr(args, option)}
+    conditions = {"reference_conditions": args.reference_conditions} \
+        if hasattr(args, "reference_conditions") else {}  # where the command line has the option
     write_report(_run_source(arguments), output, format=args.format, paper=args.paper,
                  profile=_profile(arguments), library=library, top=args.top, key=args.key,
                  rubric=args.rubric, provenance=provenance("report", args, arguments, library), force=True,
-                 inputs=[], vessels=_vessels(arguments), **limits)
+                 inputs=[], vessels=_vessels(arguments), **limits, **conditions)
     return {"kind": "report", "file": output.name}
 
 
