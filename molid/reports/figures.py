@@ -10,9 +10,10 @@ from __future__ import annotations
 
 import io
 import re
+from dataclasses import dataclass
 
-__all__ = ["VERDICT_COLOURS", "axis_figure", "spec_figure", "spec_svg_for_pdf", "figure_svg",
-           "figure_png", "svg_for_pdf", "style_context"]
+__all__ = ["VERDICT_COLOURS", "AxisLayout", "axis_layout", "axis_figure", "spec_figure", "spec_svg_for_pdf",
+           "figure_svg", "figure_png", "svg_for_pdf", "style_context"]
 
 #: Colour of each verdict, shared with the tables (colour-blind-safe diverging palette).
 VERDICT_COLOURS = {
@@ -48,6 +49,42 @@ def style_context():
     return matplotlib.rc_context(_STYLE)
 
 
+@dataclass(frozen=True)
+class AxisLayout:
+    """Where the molar-mass axis figure puts things.
+
+    The axes' left edge and width (fractions of the figure's width), the x and y view
+    limits, and the y tick labels, one per point.
+    """
+
+    left: float
+    width: float
+    x_limits: tuple
+    y_limits: tuple
+    labels: list
+
+
+def axis_layout(value, expanded, points, width=90.0) -> AxisLayout:
+    """Lay out the molar-mass axis figure (see :func:`axis_figure` for the parameters).
+
+    Returns
+    -------
+    AxisLayout
+        Shared by the matplotlib figure and the SVG written directly
+        (:mod:`molid.reports.vector_axis`), so that both draw the same picture.
+    """
+    longest = max((len(point[0]) + (8 if point[5] else 0) for point in points), default=8)
+    left = min(0.45, 0.06 + 0.0125 * longest * 90.0 / width)
+    lows, highs = [value - expanded], [value + expanded]
+    for _, molar_mass, measured, spread, _, _ in points:
+        lows += [molar_mass, measured - spread]
+        highs += [molar_mass, measured + spread]
+    low, high = min(lows), max(highs)
+    pad = 0.08 * (high - low) or 0.01 * value
+    labels = [f"{name} (label)" if is_label else str(name) for name, *_, is_label in points]
+    return AxisLayout(left, 0.97 - left, (low - pad, high + pad), (-0.7, max(len(points), 1) - 0.3), labels)
+
+
 def axis_figure(value, expanded, points, width=90.0, height=46.0):
     """Draw the molar-mass axis of a result: its interval and the nearby candidates.
 
@@ -68,35 +105,26 @@ def axis_figure(value, expanded, points, width=90.0, height=46.0):
     """
     from matplotlib.figure import Figure
 
-    longest = max((len(point[0]) + (8 if point[5] else 0) for point in points), default=8)
-    left = min(0.45, 0.06 + 0.0125 * longest * 90.0 / width)
+    layout = axis_layout(value, expanded, points, width)
     with style_context():
         figure = Figure(figsize=(width * _MM, height * _MM))
-        axes = figure.add_axes((left, 0.25, 0.97 - left, 0.62))
-        _axis_axes(axes, value, expanded, points)
+        axes = figure.add_axes((layout.left, 0.25, layout.width, 0.62))
+        _axis_axes(axes, value, expanded, points, layout)
     return figure
 
 
-def _axis_axes(axes, value, expanded, points):
+def _axis_axes(axes, value, expanded, points, layout):
     axes.axvspan(value - expanded, value + expanded, color=_BAND, zorder=0, lw=0)
     axes.axvline(value, color="#555555", lw=0.8, zorder=1)
-    lows, highs = [value - expanded], [value + expanded]
-    labels = []
-    for row, (name, molar_mass, measured, spread, verdict, is_label) in enumerate(points):
+    for row, (_, molar_mass, measured, spread, verdict, _) in enumerate(points):
         colour = VERDICT_COLOURS.get(verdict, "#333333")
         axes.errorbar([measured], [row], xerr=[spread], fmt="o", color=colour, ms=3.2,
                       elinewidth=1.0, capsize=2, zorder=3)
         axes.plot([molar_mass], [row], marker="D", ms=4.2, mfc="none", mec="black", mew=0.9,
                   ls="none", zorder=4)
-        lows += [molar_mass, measured - spread]
-        highs += [molar_mass, measured + spread]
-        name = str(name).replace("$", r"\$")
-        labels.append(f"{name} (label)" if is_label else name)
-    low, high = min(lows), max(highs)
-    pad = 0.08 * (high - low) or 0.01 * value
-    axes.set_xlim(low - pad, high + pad)
-    axes.set_ylim(-0.7, max(len(points), 1) - 0.3)
-    axes.set_yticks(list(range(len(points))), labels)
+    axes.set_xlim(*layout.x_limits)
+    axes.set_ylim(*layout.y_limits)
+    axes.set_yticks(list(range(len(points))), [label.replace("$", r"\$") for label in layout.labels])
     axes.set_xlabel("molar mass [g/mol]")
     # the key starts at the figure's edge, not the axes': long names push the axes right
     axes.figure.text(0.015, 0.97, "◇ candidate's M  ·  ● value if it is that gas, ±U  ·  grey: result, ±U",

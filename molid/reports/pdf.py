@@ -1,14 +1,19 @@
 """The PDF writer: draws a :class:`~molid.reports.content.Report` with fpdf2.
 
 Every string is drawn as text with fpdf2's cell functions (markdown off); nothing
-a user typed is parsed as markup. Plots are matplotlib SVG drawn as vector paths.
-The text area is 180 mm × 249 mm, centred, so the same layout prints on A4 and on
-US Letter.
+a user typed is parsed as markup. Plots are SVG drawn as vector paths: the
+molar-mass axis written directly (:mod:`molid.reports.vector_axis`, no matplotlib),
+other plots by matplotlib. The text area is 180 mm × 249 mm, centred, so the same
+layout prints on A4 and on US Letter.
+
+Fonts are parsed when a page first uses them: parsing a TrueType font costs about
+20 ms, and a report uses three of the four DejaVu Sans faces.
 """
 
 from __future__ import annotations
 
 import functools
+import importlib.util
 import io
 import logging
 import os
@@ -42,13 +47,22 @@ _BOX_EDGE = {"note": (190, 190, 190), "warning": (214, 160, 0), "error": (178, 2
              "safety": (200, 80, 0)}
 
 
-def font_path(style="") -> Path:
-    """Locate the DejaVu Sans TTF that ships with matplotlib (style '', 'B', 'I' or 'BI')."""
-    import matplotlib
+#: The family matplotlib's SVG names its text in; registered only when such a figure is drawn.
+_SVG_FONT = "DejaVu Sans"
 
+
+def font_path(style="") -> Path:
+    """Locate the DejaVu Sans TTF that ships with matplotlib (style '', 'B', 'I' or 'BI').
+
+    Found beside matplotlib's installed files (its ``mpl-data`` folder, as
+    ``matplotlib.get_data_path()`` gives it) without importing matplotlib.
+    """
     names = {"": "DejaVuSans.ttf", "B": "DejaVuSans-Bold.ttf", "I": "DejaVuSans-Oblique.ttf",
              "BI": "DejaVuSans-BoldOblique.ttf"}
-    return Path(matplotlib.get_data_path()) / "fonts" / "ttf" / names[style]
+    spec = importlib.util.find_spec("matplotlib")
+    if spec is None or not spec.submodule_search_locations:  # pragma: no cover - a dependency
+        raise FileNotFoundError("matplotlib, whose DejaVu Sans fonts the report uses, is not installed")
+    return Path(spec.submodule_search_locations[0]) / "mpl-data" / "fonts" / "ttf" / names[style]
 
 
 def _fit_left(document, text, width) -> str:
@@ -67,6 +81,11 @@ def _document_class():
         report_title = ""
         report_source = ""
         report_footer = ""
+
+        def set_font(self, family=None, style="", size=0):
+            if family in (_FONT, _SVG_FONT):
+                _register_font(self, family, style)
+            super().set_font(family, style, size)
 
         def header(self):
             self.set_font(_FONT, "", 7)
@@ -109,11 +128,6 @@ def render_pdf(report, paper="a4") -> bytes:
     logging.getLogger("fpdf.svg").setLevel(logging.ERROR)
     width, height = PAPER_SIZES[paper]
     document = _document_class()(orientation="P", unit="mm", format=(width, height))
-    for style in ("", "B", "I", "BI"):
-        document.add_font(_FONT, style, str(font_path(style)))
-    # matplotlib names its SVG fonts "DejaVu Sans"; give fpdf2 that family too.
-    for style in ("", "B"):
-        document.add_font("DejaVu Sans", style, str(font_path(style)))
     margin = (width - TEXT_WIDTH) / 2
     document.set_margins(margin, _TOP, margin)
     document.set_auto_page_break(True, margin=_BOTTOM + 2)
@@ -141,12 +155,13 @@ PARALLEL_MINIMUM = 16
 
 
 class _FigureSource:
-    """The SVG of each plot: drawn here, or ahead in worker processes for long reports.
+    """The SVG of each plot: written directly, drawn here, or ahead in worker processes.
 
-    Drawing a plot (matplotlib) takes most of a page's time and needs nothing from
-    the layout, so for a long report the plots are handed to a process pool in
-    page order and collected as the pages reach them. Any failure of the pool
-    falls back to drawing in this process.
+    The molar-mass axis is written as SVG directly (:mod:`molid.reports.vector_axis`),
+    which takes a millisecond. Other plots are drawn with matplotlib, which takes
+    most of a page's time and needs nothing from the layout, so for a long report
+    they are handed to a process pool in page order and collected as the pages reach
+    them. Any failure of the pool falls back to drawing in this process.
     """
 
     def __init__(self, pages):
@@ -155,12 +170,14 @@ class _FigureSource:
         self.figures = figures
         self.pool = None
         self.futures = {}
+        self.written = {}
         plots = []
         for page in pages:
             for block in page.blocks:
                 for item in (block.left, block.right) if isinstance(block, Columns) else (block,):
                     if isinstance(item, Plot) and item.spec is not None and not item.raster_in_pdf:
                         plots.append(item)
+        plots = [plot for plot in plots if not self._write(plot)]
         workers = min(os.cpu_count() or 1, 4)
         if len(plots) < PARALLEL_MINIMUM or workers < 2:
             return
@@ -173,7 +190,23 @@ class _FigureSource:
         except Exception:  # noqa: BLE001 - no processes here (sandbox, frozen app): draw serially
             self.close()
 
+    def _write(self, plot) -> bool:
+        """Write a plot's SVG directly where that reproduces it; tell whether it did."""
+        if plot.spec[0] != "axis":
+            return False
+        from molid.reports.vector_axis import axis_svg
+
+        data = axis_svg(*plot.spec[1:], font_family=_FONT)
+        if data is not None:
+            self.written[id(plot)] = data
+        return data is not None
+
     def svg(self, block) -> bytes:
+        """Return the SVG of a plot; its texts name the font family ``self.svg_font`` then holds."""
+        if id(block) in self.written:
+            self.svg_font = _FONT
+            return self.written.pop(id(block))
+        self.svg_font = _SVG_FONT
         future = self.futures.pop(id(block), None)
         if future is not None:
             try:
@@ -190,6 +223,15 @@ class _FigureSource:
             self.pool.shutdown(wait=True, cancel_futures=True)
         self.pool = None
         self.futures = {}
+
+
+def _register_font(document, family, style):
+    """Parse a DejaVu Sans face for fpdf2 the first time a family and style are asked for."""
+    style = "".join(sorted(style.upper().replace("U", "")))
+    registered = document.__dict__.setdefault("_molid_fonts", set())
+    if (family, style) not in registered:
+        document.add_font(family, style, str(font_path(style)))
+        registered.add((family, style))
 
 
 def _room(document) -> float:
@@ -497,6 +539,8 @@ def _plot(document, block, source, x=None):
     y = document.get_y()
     try:
         data = source.png(block, 220) if block.raster_in_pdf else source.svg(block)
+        if not block.raster_in_pdf:
+            _register_font(document, source.svg_font, "")
         document.image(io.BytesIO(data), x=x, y=y, w=block.width, h=block.height)
     except Exception:  # noqa: BLE001 - an SVG fpdf2 cannot read still prints, as a bitmap
         document.image(io.BytesIO(source.png(block, 250)), x=x, y=y, w=block.width,
