@@ -1,4 +1,4 @@
-"""What a one-run ``molid identify`` imports once the user cache is warm (start-up time)."""
+"""What everyday commands (one-run ``molid identify``, ``molid grade``) import with the user cache warm."""
 
 import os
 import subprocess
@@ -28,3 +28,22 @@ def test_one_run_identify_imports_nothing_it_does_not_use(tmp_path):
     assert runs[1].splitlines()[-1].split() == ["IMPORTED", "0"]
     documents = sorted(path.name.split("-")[0] for path in (tmp_path / "cache").iterdir())
     assert documents == ["formulas", "molar", "units"]
+
+
+def test_grading_imports_no_unit_or_plot_library(tmp_path):
+    """Checks behaviour: with the cache warm, grading a section imports neither pint nor matplotlib nor fpdf.
+
+    The diagnosis's gas-constant variants take their litre and calorie from the units
+    cache; scipy may come in, since the section's samples have replicates.
+    """
+    code = ("import sys\nfrom molid.cli import main\n"
+            "status = main(['grade', sys.argv[1], '--key', sys.argv[2], '-o', sys.argv[3], '--force'])\n"
+            "print('IMPORTED', *[name for name in ('pint', 'matplotlib', 'fpdf') if name in sys.modules])\n")
+    environment = dict(os.environ, MOLID_CACHE_DIR=str(tmp_path / "cache"))
+    samples = ROOT / "sample_runs"
+    arguments = [str(samples / "teaching_section.csv"), str(samples / "teaching_key.csv"),
+                 str(tmp_path / "grades.csv")]
+    runs = [subprocess.run([sys.executable, "-c", code, *arguments], capture_output=True, text=True,
+                           env=environment, cwd=tmp_path).stdout for _ in range(2)]
+    assert runs[1].splitlines()[-1].split() == ["IMPORTED"]
+    assert (tmp_path / "grades.csv").read_text(encoding="utf-8").startswith("run,")

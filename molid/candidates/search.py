@@ -76,6 +76,10 @@ def _hill_or_none(text):
 def _find_by_formula(library, text):
     """Match a label as a formula (see :func:`find_candidate`, steps 3 and 4)."""
     index = library.index
+    typed = (library["formula"] == text).to_numpy(dtype=bool)
+    if typed.any():  # written as a library row writes it: that row's Hill formula, nothing to parse
+        hill = library["hill"].to_numpy()[typed][0]
+        return _unique(index[(library["hill"] == hill).to_numpy()])
     try:
         hill = hill_formula(text)
     except ValueError:

@@ -42,6 +42,7 @@ DEFAULT_UNITS = {
     "fraction": "percent",
     "molar_mass": "g/mol",
     "length": "mm",
+    "energy": "J",
 }
 
 #: The SI unit each kind is converted to.
@@ -53,6 +54,7 @@ SI_UNITS = {
     "fraction": "dimensionless",
     "molar_mass": "kg/mol",
     "length": "m",
+    "energy": "J",
 }
 
 #: Examples of accepted units, quoted in error messages.
@@ -64,6 +66,7 @@ ACCEPTED_UNITS = {
     "fraction": "% (percent, % RH, %RH) or 1 (a plain fraction)",
     "molar_mass": "g/mol, kg/mol",
     "length": "mm, cm, m, in",
+    "energy": "J, kJ, cal, kcal",
 }
 
 _DIMENSIONS = {
@@ -74,6 +77,7 @@ _DIMENSIONS = {
     "fraction": "",
     "molar_mass": "[mass] / [substance]",
     "length": "[length]",
+    "energy": "[mass] * [length] ** 2 / [time] ** 2",
 }
 
 

@@ -53,7 +53,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from molid.io.units import registry, resolve_unit
+from molid.io.units import resolve_unit
 from molid.methods.mistakes import DESCRIPTIONS, MISTAKE_CODES, UNEXPLAINED
 from molid.methods.model import gas_mass, ideal_gas_molar_mass, measurement_model, method_readings
 from molid.methods.registry import mistake_applies, select_by_method
@@ -112,18 +112,21 @@ class Variant:
 
 
 def _gas_constants() -> dict:
-    """R in the unit systems students meet: unit text -> (value, what it fits)."""
-    ureg = registry()
+    """R in the unit systems students meet: unit text -> (value, what it fits).
+
+    The conversions are pint's, read back from the user cache after the first process
+    (:func:`~molid.io.units.resolve_unit`), so that grading need not import pint.
+    """
     litre_pressure = {
         "L·atm/(mol·K)": ("atm", "a pressure in atm and a volume in L"),
         "L·mmHg/(mol·K)": ("mmHg", "a pressure in mmHg (torr) and a volume in L"),
         "L·bar/(mol·K)": ("bar", "a pressure in bar and a volume in L"),
     }
-    litre = float(ureg.Quantity(1.0, "L").to("m**3").magnitude)
+    litre = resolve_unit("volume", "L").scale
     systems = {"J/(mol·K)": (GAS_CONSTANT, "a pressure in kPa and a volume in L (or Pa and m³)")}
     for text, (unit, fits) in litre_pressure.items():
         systems[text] = (GAS_CONSTANT / (resolve_unit("pressure", unit).scale * litre), fits)
-    calorie = float(ureg.Quantity(1.0, "cal").to("J").magnitude)
+    calorie = resolve_unit("energy", "cal").scale
     systems["cal/(mol·K)"] = (GAS_CONSTANT / calorie, None)
     return systems
 
