@@ -158,10 +158,21 @@ def _path(points, style, clip=False, close=False) -> str:
     return f'<path d="M {moves}{" z" if close else ""}"{clipping} style="{style}"/>'
 
 
-def _use(name, x, y, style, clip=False) -> str:
-    """Write an instance of a defined marker at (x, y) [pt], optionally clipped to the axes."""
-    use = f'<use xlink:href="#{name}" x="{_number(x)}" y="{_number(y)}" style="{style}"/>'
-    return f'<g clip-path="url(#axes)">{use}</g>' if clip else use
+def _marker(shape, x, y, style) -> str:
+    """Write a marker shape placed at (x, y) [pt] as a path of its own.
+
+    matplotlib's SVG defines each marker once and places it with ``<use>``; the PDF
+    writer's SVG reader copies the definition for every use, so the same outline is
+    written here at its place, which draws the same and reads faster.
+    """
+    words, numbers = [], 0
+    for word in shape.split():
+        if word.isalpha():
+            words.append(word)
+        else:
+            words.append(_number(float(word) + (x if numbers % 2 == 0 else y)))
+            numbers += 1
+    return f'<path d="{" ".join(words)}" style="{style}"/>'
 
 
 _LINE = "fill: none; stroke: {colour}; stroke-width: {width}; stroke-linecap: square"
@@ -176,7 +187,7 @@ def _x_axis(frame, ticks, labels) -> list:
     for position, label in zip(ticks, labels, strict=True):
         x = to_x(position)
         parts.append(_path([(x, bottom), (x, top)], _LINE.format(colour="#eeeeee", width=0.5), clip=True))
-        parts.append(_use("xtick", x, bottom, _MARK))
+        parts.append(_marker("M 0 0 L 0 3.5", x, bottom, _MARK))
         parts.append(_text(x, bottom + _X_TICK_BASELINE, 6.5, "middle", label, family))
     parts.append(_text((left + right) / 2, bottom + _X_LABEL_BASELINE, 7.0, "middle", "molar mass [g/mol]",
                        family))
@@ -184,21 +195,22 @@ def _x_axis(frame, ticks, labels) -> list:
 
 
 def _points(frame, rows, points) -> list:
-    """Write error bars with caps, then dots, then diamonds: matplotlib's order for their z-orders."""
+    """Write error bars with caps, then dots, then diamonds (matplotlib's order for their z-orders).
+
+    All of them are clipped to the axes, so they share one clipped group.
+    """
     to_x = frame[4]
     bars, dots, diamonds = [], [], []
     for number, (_, molar_mass, measured, spread, verdict, _) in enumerate(points):
         colour = VERDICT_COLOURS.get(verdict, "#333333")
         y = rows(number)
         low, high = to_x(measured - spread), to_x(measured + spread)
-        bars.append(_path([(low, y), (high, y)], f"fill: none; stroke: {colour}", clip=True))
-        bars.append(f'<defs><path id="cap{number}" d="M 0 2 L 0 -2" style="stroke: {colour}"/></defs>')
-        filled = f"fill: {colour}; stroke: {colour}"
-        bars += [_use(f"cap{number}", x, y, filled, clip=True) for x in (low, high)]
-        dots.append(f'<defs><path id="dot{number}" d="{_CIRCLE}" style="stroke: {colour}"/></defs>')
-        dots.append(_use(f"dot{number}", to_x(measured), y, filled, clip=True))
-        diamonds.append(_use("diamond", to_x(molar_mass), y, "fill-opacity: 0; " + _DIAMOND_STYLE, clip=True))
-    return bars + dots + diamonds
+        bars.append(_path([(low, y), (high, y)], f"fill: none; stroke: {colour}"))
+        filled = f"stroke: {colour}; fill: {colour}"
+        bars += [_marker("M 0 2 L 0 -2", x, y, filled) for x in (low, high)]
+        dots.append(_marker(_CIRCLE, to_x(measured), y, filled))
+        diamonds.append(_marker(_DIAMOND, to_x(molar_mass), y, _DIAMOND_STYLE + "; fill-opacity: 0"))
+    return ['<g clip-path="url(#axes)">', *bars, *dots, *diamonds, "</g>"] if points else []
 
 
 # matplotlib's circle marker of 3.2 pt (eight cubic arcs) and diamond of 4.2 pt, as its SVG writes them.
@@ -277,9 +289,7 @@ def _document(frame, layout, figure_width, figure_height, value, expanded, rows,
         f'viewBox="0 0 {width} {height}" xmlns="http://www.w3.org/2000/svg" version="1.1">',
         '<defs><style type="text/css">*{stroke-linejoin: round; stroke-linecap: butt}</style>'
         f'<clipPath id="axes"><rect x="{_number(left)}" y="{_number(top)}" width="{_number(right - left)}" '
-        f'height="{_number(bottom - top)}"/></clipPath>'
-        f'<path id="xtick" d="M 0 0 L 0 3.5" style="{_MARK}"/><path id="ytick" d="M 0 0 L -3.5 0" '
-        f'style="{_MARK}"/><path id="diamond" d="{_DIAMOND}" style="{_DIAMOND_STYLE}"/></defs>',
+        f'height="{_number(bottom - top)}"/></clipPath></defs>',
         _path([(0, figure_height), (figure_width, figure_height), (figure_width, 0), (0, 0)], "fill: #ffffff",
               close=True),
         _path(corners, "fill: #ffffff", close=True),
@@ -290,7 +300,7 @@ def _document(frame, layout, figure_width, figure_height, value, expanded, rows,
         *_x_axis(frame, shown, labels),
     ]
     for row, label in enumerate(layout.labels):
-        parts.append(_use("ytick", left, rows(row), _MARK))
+        parts.append(_marker("M 0 0 L -3.5 0", left, rows(row), _MARK))
         parts.append(_text(left - 7.0, rows(row) + _Y_TICK_BASELINE, 6.5, "end", label, family))
     parts += [_path([(left, bottom), (left, top)], _SPINE), _path([(left, bottom), (right, bottom)], _SPINE)]
     parts += _points(frame, rows, points)

@@ -27,8 +27,19 @@ def _style(text):
     return {key.strip(): value.strip() for key, value in pairs}
 
 
+def _moved(words, x, y):
+    moved, numbers = [], 0
+    for word in words:
+        if word.isalpha():
+            moved.append(word)
+        else:
+            moved.append(str(float(word) + (x if numbers % 2 == 0 else y)))
+            numbers += 1
+    return moved
+
+
 def _drawn(svg: bytes) -> list:
-    """Each drawn element in order: kind, its numbers and words, its style, whether clipped."""
+    """Each drawn element in order: kind, its numbers and words, its style, whether clipped to the axes."""
     root = ElementTree.fromstring(svg)
     defined = {node.get("id"): node for node in root.iter() if node.get("id")}
     found = []
@@ -40,10 +51,11 @@ def _drawn(svg: bytes) -> list:
         clipped = clipped or node.get("clip-path") is not None
         if tag == "path":
             found.append(("path", node.get("d").split(), _style(node.get("style")), clipped))
-        elif tag == "use":
+        elif tag == "use":  # a marker placed at (x, y): the same as its outline moved there
             marker = defined[node.get(_LINK)[1:]]
             style = {**_style(marker.get("style")), **_style(node.get("style"))}
-            found.append(("use", marker.get("d").split() + [node.get("x"), node.get("y")], style, clipped))
+            found.append(("path", _moved(marker.get("d").split(), float(node.get("x")), float(node.get("y"))),
+                          style, clipped))
         elif tag == "text":
             numbers = [node.get("x"), node.get("y"), node.text]
             found.append(("text", numbers, _style(node.get("style")), clipped))
