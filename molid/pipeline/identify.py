@@ -376,8 +376,8 @@ def _sample_results(table: RunTable, propagation, errors, shared):
         sample_warnings[sample[index]].append(
             f"run {runs[index]} (row {table.row_numbers[index]}) left out: it has an error"
         )
-    # Which shared effects matter (over 1 % of a run's variance) in each sample.
-    in_sample = ok & has_sample
+    # Which shared effects matter (over 1 % of a run's variance) in each sample of several runs.
+    in_sample = ok & has_sample & bool((samples["n"] > 1).any())
     matters = pd.DataFrame({"sample": sample[in_sample]})
     variance = u[in_sample] ** 2
     for name in shared:

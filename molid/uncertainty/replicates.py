@@ -74,6 +74,39 @@ def chi_square_p_value(chi_square, degrees_of_freedom):
         return np.where(degrees_of_freedom >= 1, gammaincc(safe / 2.0, chi_square / 2.0), np.nan)
 
 
+def _one_run_each(sample) -> bool:
+    """Tell whether no two of these runs share a sample (and every run has one)."""
+    return bool(len(sample)) and not pd.isna(sample).any() and len(set(sample.tolist())) == len(sample)
+
+
+def _sum_of_one(values):
+    """Sum a group of one value as pandas' grouped sum does: 0 + x, and 0 for NaN."""
+    return np.where(np.isnan(values), 0.0, 0.0 + values)
+
+
+def _single_runs(sample, value, weight, contributions: dict) -> pd.DataFrame:
+    """Combine samples of one run each: :func:`combine_replicates` without grouping, to the bit.
+
+    The same arithmetic, element by element, as the grouped sums of one term each give;
+    no degrees of freedom, so no Birge ratio, no widening and no p-value.
+    """
+    weights = _sum_of_one(weight)
+    mean = _sum_of_one(weight * value) / weights
+    chi_square = _sum_of_one(weight * (value - mean) ** 2)
+    u_independent = (1.0 / np.sqrt(weights)) * 1.0
+    u_shared_square = 0.0
+    for name in contributions:
+        u_shared_square = u_shared_square + (_sum_of_one(weight * contributions[name]) / weights) ** 2
+    u_shared = np.sqrt(u_shared_square) if len(contributions) else 0.0 * mean
+    nothing = np.full(len(sample), np.nan)
+    return pd.DataFrame({
+        "sample": np.asarray(sample, dtype=object), "n": np.ones(len(sample), dtype=np.int64), "value": mean,
+        "u": np.sqrt(u_independent**2 + u_shared**2), "u_independent": u_independent, "u_shared": u_shared,
+        "chi_square": chi_square, "birge_ratio": nothing, "p_value": nothing.copy(),
+        "widened": np.zeros(len(sample), dtype=bool),
+    })
+
+
 def shared_inputs(sample, values: dict, uncertainties: dict, ok) -> dict:
     """For each shareable input, whether it has one value and one u across each sample.
 
@@ -91,6 +124,15 @@ def shared_inputs(sample, values: dict, uncertainties: dict, ok) -> dict:
     dict of numpy.ndarray of bool
         Per input, per run: True where that run's sample shares the input.
     """
+    chosen = np.asarray(ok, dtype=bool)
+    if _one_run_each(np.asarray(sample, dtype=object)[chosen]):
+        # a sample of one run has one value and one u of every input: all are shared
+        return {name: chosen.copy() for name in SHAREABLE_INPUTS if name in values and name in uncertainties}
+    return _shared_by_grouping(sample, values, uncertainties, ok)
+
+
+def _shared_by_grouping(sample, values: dict, uncertainties: dict, ok) -> dict:
+    """Find the shared inputs of each sample by grouping its runs (see :func:`shared_inputs`)."""
     frame = pd.DataFrame({"sample": np.asarray(sample, dtype=object)})
     frame = frame[np.asarray(ok)]
     result = {}
@@ -152,18 +194,21 @@ def combine_replicates(sample, value, u, shared_contributions: dict, ok) -> pd.D
     # A run whose uncertainty is all shared still needs a finite weight.
     independent = np.maximum(independent, 1e-9 * np.abs(value) + 1e-300)
     weight = 1.0 / independent**2
-    frame = pd.DataFrame({
-        "sample": sample[keep],
-        "weight": weight[keep],
-        "weighted": (weight * value)[keep],
-    })
-    for name, contribution in shared_contributions.items():
-        frame[f"shared_{name}"] = (weight * contribution)[keep]
+    runs = (sample[keep], value[keep], weight[keep],
+            {name: contribution[keep] for name, contribution in shared_contributions.items()})
+    return _single_runs(*runs) if _one_run_each(sample[keep]) else _grouped(*runs)
+
+
+def _grouped(sample, value, weight, contributions: dict) -> pd.DataFrame:
+    """Combine the runs of each sample by grouped sums (see :func:`combine_replicates`)."""
+    frame = pd.DataFrame({"sample": sample, "weight": weight, "weighted": weight * value})
+    for name, contribution in contributions.items():
+        frame[f"shared_{name}"] = weight * contribution
     grouped = frame.groupby("sample", sort=False)
     sums = grouped.sum()
     counts = grouped.size()
     mean = sums["weighted"] / sums["weight"]
-    frame["deviation"] = weight[keep] * (value[keep] - frame["sample"].map(mean).to_numpy()) ** 2
+    frame["deviation"] = weight * (value - frame["sample"].map(mean).to_numpy()) ** 2
     chi_square = frame.groupby("sample", sort=False)["deviation"].sum()
     dof = counts - 1
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -172,9 +217,9 @@ def combine_replicates(sample, value, u, shared_contributions: dict, ok) -> pd.D
     widened = birge > 1.0
     u_independent = internal * np.where(widened, birge, 1.0)
     u_shared_square = 0.0
-    for name in shared_contributions:
+    for name in contributions:
         u_shared_square = u_shared_square + (sums[f"shared_{name}"] / sums["weight"]) ** 2
-    u_shared = np.sqrt(u_shared_square) if len(shared_contributions) else 0.0 * mean
+    u_shared = np.sqrt(u_shared_square) if len(contributions) else 0.0 * mean
     return pd.DataFrame({
         "sample": mean.index.to_numpy(dtype=object),
         "n": counts.to_numpy(),
