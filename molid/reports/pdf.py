@@ -1,10 +1,11 @@
 """The PDF writer: draws a :class:`~molid.reports.content.Report` with fpdf2.
 
 Every string is drawn as text with fpdf2's cell functions (markdown off); nothing
-a user typed is parsed as markup. Plots are SVG drawn as vector paths: the
-molar-mass axis written directly (:mod:`molid.reports.vector_axis`, no matplotlib),
-other plots by matplotlib. The text area is 180 mm × 249 mm, centred, so the same
-layout prints on A4 and on US Letter.
+a user typed is parsed as markup. Plots are vector graphics: the molar-mass axis
+is laid out as matplotlib lays it out (:mod:`molid.reports.vector_axis`, no
+matplotlib) and painted with fpdf2's lines, circles and text; other plots are
+matplotlib SVG drawn as vector paths. The text area is 180 mm × 249 mm, centred,
+so the same layout prints on A4 and on US Letter.
 
 Fonts are parsed when a page first uses them: parsing a TrueType font costs about
 20 ms, and a report uses three of the four DejaVu Sans faces.
@@ -16,7 +17,9 @@ import functools
 import importlib.util
 import io
 import logging
+import math
 import os
+import re
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -155,10 +158,10 @@ PARALLEL_MINIMUM = 16
 
 
 class _FigureSource:
-    """The SVG of each plot: written directly, drawn here, or ahead in worker processes.
+    """Each plot: laid out for painting directly, or drawn as SVG here or ahead in worker processes.
 
-    The molar-mass axis is written as SVG directly (:mod:`molid.reports.vector_axis`),
-    which takes a millisecond. Other plots are drawn with matplotlib, which takes
+    The molar-mass axis is laid out directly (:mod:`molid.reports.vector_axis`), which
+    takes a millisecond, and painted by :func:`_paint`. Other plots are drawn with matplotlib, which takes
     most of a page's time and needs nothing from the layout, so for a long report
     they are handed to a process pool in page order and collected as the pages reach
     them. Any failure of the pool falls back to drawing in this process.
@@ -191,22 +194,22 @@ class _FigureSource:
             self.close()
 
     def _write(self, plot) -> bool:
-        """Write a plot's SVG directly where that reproduces it; tell whether it did."""
+        """Lay out a plot as shapes to paint directly where that reproduces it; tell whether it did."""
         if plot.spec[0] != "axis":
             return False
-        from molid.reports.vector_axis import axis_svg
+        from molid.reports.vector_axis import axis_shapes
 
-        data = axis_svg(*plot.spec[1:], font_family=_FONT)
-        if data is not None:
-            self.written[id(plot)] = data
-        return data is not None
+        shapes = axis_shapes(*plot.spec[1:])
+        if shapes is not None:
+            self.written[id(plot)] = shapes
+        return shapes is not None
+
+    def shapes(self, block):
+        """Return the shapes of a plot laid out for direct painting, or None."""
+        return self.written.pop(id(block), None)
 
     def svg(self, block) -> bytes:
-        """Return the SVG of a plot; its texts name the font family ``self.svg_font`` then holds."""
-        if id(block) in self.written:
-            self.svg_font = _FONT
-            return self.written.pop(id(block))
-        self.svg_font = _SVG_FONT
+        """Return the SVG of a plot drawn by matplotlib."""
         future = self.futures.pop(id(block), None)
         if future is not None:
             try:
@@ -537,15 +540,106 @@ def _plot(document, block, source, x=None):
     if x is None:
         x = document.l_margin + (TEXT_WIDTH - block.width) / 2
     y = document.get_y()
+    shapes = None if block.raster_in_pdf else source.shapes(block)
+    if shapes is not None:
+        _paint(document, shapes, x, y, block.width / shapes.width)
+        document.set_y(y + block.height + 1.5)
+        return
     try:
         data = source.png(block, 220) if block.raster_in_pdf else source.svg(block)
         if not block.raster_in_pdf:
-            _register_font(document, source.svg_font, "")
+            _register_font(document, _SVG_FONT, "")
         document.image(io.BytesIO(data), x=x, y=y, w=block.width, h=block.height)
     except Exception:  # noqa: BLE001 - an SVG fpdf2 cannot read still prints, as a bitmap
         document.image(io.BytesIO(source.png(block, 250)), x=x, y=y, w=block.width,
                        h=block.height)
     document.set_y(y + block.height + 1.5)
+
+
+def _colour(text) -> tuple:
+    return tuple(int(text[index:index + 2], 16) for index in (1, 3, 5))
+
+
+def _stroke(document, points, colour, width, scale, square=False):
+    """Stroke a two-point line [mm on the page] of a width [pt]; square caps reach half the width past it."""
+    (x1, y1), (x2, y2) = points
+    if square:
+        length = math.hypot(x2 - x1, y2 - y1) or 1.0
+        reach = width * scale / 2
+        reach_x, reach_y = (x2 - x1) / length * reach, (y2 - y1) / length * reach
+        x1, y1, x2, y2 = x1 - reach_x, y1 - reach_y, x2 + reach_x, y2 + reach_y
+    document.set_draw_color(*_colour(colour))
+    document.set_line_width(width * scale)
+    document.line(x1, y1, x2, y2)
+
+
+def _paint(document, figure, x, y, scale):
+    """Paint the shapes of a figure laid out by :func:`molid.reports.vector_axis.axis_shapes`.
+
+    Figure coordinates are points from the figure's top-left corner; the page's are
+    millimetres, ``scale`` millimetres per point. The same picture as its SVG: what is
+    clipped to the axes is painted inside one clip: the band, value line and grid lines
+    together, where the first of them comes (the tick marks and labels drawn between
+    them in the SVG lie outside the axes), then the points.
+    """
+    def at(point):
+        return x + point[0] * scale, y + point[1] * scale
+
+    left, top, width, height = figure.axes
+    clip = (x + left * scale, y + top * scale, width * scale, height * scale)
+    font = (document.font_family, document.font_style, document.font_size_pt)
+    inside = [shape for shape in figure.shapes if shape[0] in ("area", "line") and shape[-1]]
+    for shape in figure.shapes:
+        group = shape[1] if shape[0] == "points" else inside if shape is inside[0] else None
+        if group is not None:
+            with document.rect_clip(*clip):
+                for item in group:
+                    _paint_shape(document, item, at, scale)
+        elif not any(shape is member for member in inside):
+            _paint_shape(document, shape, at, scale)
+    if font[0]:
+        document.set_font(*font)
+
+
+def _paint_shape(document, shape, at, scale):
+    """Paint one shape (see :class:`molid.reports.vector_axis.AxisShapes`) in page millimetres."""
+    kind = shape[0]
+    if kind == "area":
+        document.set_fill_color(*_colour(shape[2]))
+        document.polygon([at(point) for point in shape[1]], style="F")
+    elif kind in ("line", "spine"):
+        colour, width = (shape[2], shape[3]) if kind == "line" else ("#000000", 0.6)
+        _stroke(document, [at(point) for point in shape[1]], colour, width, scale, square=True)
+    elif kind == "mark":
+        _stroke(document, [at(shape[1:3]), at((shape[1] + shape[3], shape[2] + shape[4]))], "#000000", 0.6,
+                scale)
+    elif kind == "text":
+        # white space collapsed as an SVG reader collapses it (the key has double spaces)
+        text = re.sub(r"\s+", " ", shape[5])
+        if not text.strip():
+            return
+        document.set_font(_FONT, "", shape[3])
+        document.set_text_color(0, 0, 0)
+        shift = {"start": 0.0, "middle": 0.5, "end": 1.0}[shape[4]] * document.get_string_width(text)
+        left, baseline = at(shape[1:3])
+        document.text(left - shift, baseline, text)
+    elif kind == "bar":
+        _stroke(document, [at((shape[1], shape[3])), at((shape[2], shape[3]))], shape[4], 1.0, scale)
+    elif kind == "cap":
+        ends = [at((shape[1], shape[2] - 2.0)), at((shape[1], shape[2] + 2.0))]
+        _stroke(document, ends, shape[3], 1.0, scale)
+    elif kind == "dot":
+        document.set_draw_color(*_colour(shape[3]))
+        document.set_fill_color(*_colour(shape[3]))
+        document.set_line_width(1.0 * scale)
+        document.circle(*at(shape[1:3]), 1.6 * scale, style="DF")
+    else:  # the diamond of a candidate's molar mass
+        half = 2.969848
+        corners = [(shape[1], shape[2] + half), (shape[1] + half, shape[2]), (shape[1], shape[2] - half),
+                   (shape[1] - half, shape[2])]
+        document.set_draw_color(0, 0, 0)
+        document.set_line_width(0.9 * scale)
+        document.polygon([at(corner) for corner in corners], style="D")
 
 
 def _bullets(document, block):

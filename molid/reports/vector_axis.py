@@ -1,12 +1,13 @@
-"""The molar-mass axis figure written as SVG directly, laid out by matplotlib's rules, without matplotlib.
+"""The molar-mass axis figure laid out by matplotlib's rules, without matplotlib.
 
 Importing matplotlib and drawing a figure with it costs more than the rest of a
 short PDF report, and the axis figure (:func:`molid.reports.figures.axis_figure`)
 is a few lines, dots, diamonds and labels. This module computes what matplotlib
 computes for that figure — the axes' box, the tick positions of its automatic
-locator, the tick labels of its scalar formatter, the baselines of its texts —
-and writes the SVG document matplotlib's SVG backend writes for it, element for
-element, so the PDF writer draws the same picture. It gives up (returns None),
+locator, the tick labels of its scalar formatter, the baselines of its texts — as
+a list of shapes (:func:`axis_shapes`), which the PDF writer paints, and which
+:func:`axis_svg` writes as the SVG document matplotlib's SVG backend writes for the
+figure, element for element (the tests compare the two). It gives up (returns None),
 and the caller draws with matplotlib, whenever the figure is outside what is
 reproduced here: values that are not finite, tick labels that would need an
 exponent, or a label with a character whose height is not known here.
@@ -22,13 +23,14 @@ matplotlib 3.x: ``ticker.MaxNLocator`` (automatic ticks), ``ticker.ScalarFormatt
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from html import escape
 
 import numpy as np
 
 from molid.reports.figures import VERDICT_COLOURS, axis_layout
 
-__all__ = ["axis_svg", "tick_values", "tick_format"]
+__all__ = ["AxisShapes", "axis_shapes", "axis_svg", "tick_values", "tick_format"]
 
 _POINTS_PER_MM = 72.0 / 25.4
 # Where matplotlib puts the baselines of the figure's texts (DejaVu Sans, its hinted metrics at
@@ -181,36 +183,53 @@ _MARK = "stroke: #000000; stroke-width: 0.6"
 
 
 def _x_axis(frame, ticks, labels) -> list:
-    """Write the x ticks (grid line, mark, label) and the axis label, grouped as matplotlib's SVG has them."""
-    left, right, top, bottom, to_x, family = frame
-    parts = []
+    """List the x ticks (grid line, mark, label) and the axis label, grouped as matplotlib's SVG has them."""
+    left, right, top, bottom, to_x = frame
+    shapes = []
     for position, label in zip(ticks, labels, strict=True):
         x = to_x(position)
-        parts.append(_path([(x, bottom), (x, top)], _LINE.format(colour="#eeeeee", width=0.5), clip=True))
-        parts.append(_marker("M 0 0 L 0 3.5", x, bottom, _MARK))
-        parts.append(_text(x, bottom + _X_TICK_BASELINE, 6.5, "middle", label, family))
-    parts.append(_text((left + right) / 2, bottom + _X_LABEL_BASELINE, 7.0, "middle", "molar mass [g/mol]",
-                       family))
-    return parts
+        shapes.append(("line", [(x, bottom), (x, top)], "#eeeeee", 0.5, True))
+        shapes.append(("mark", x, bottom, 0.0, 3.5))
+        shapes.append(("text", x, bottom + _X_TICK_BASELINE, 6.5, "middle", label))
+    label_baseline = bottom + _X_LABEL_BASELINE
+    shapes.append(("text", (left + right) / 2, label_baseline, 7.0, "middle", "molar mass [g/mol]"))
+    return shapes
 
 
 def _points(frame, rows, points) -> list:
-    """Write error bars with caps, then dots, then diamonds (matplotlib's order for their z-orders).
-
-    All of them are clipped to the axes, so they share one clipped group.
-    """
+    """List error bars with caps, then dots, then diamonds (matplotlib's order for their z-orders)."""
     to_x = frame[4]
     bars, dots, diamonds = [], [], []
     for number, (_, molar_mass, measured, spread, verdict, _) in enumerate(points):
         colour = VERDICT_COLOURS.get(verdict, "#333333")
         y = rows(number)
         low, high = to_x(measured - spread), to_x(measured + spread)
-        bars.append(_path([(low, y), (high, y)], f"fill: none; stroke: {colour}"))
-        filled = f"stroke: {colour}; fill: {colour}"
-        bars += [_marker("M 0 2 L 0 -2", x, y, filled) for x in (low, high)]
-        dots.append(_marker(_CIRCLE, to_x(measured), y, filled))
-        diamonds.append(_marker(_DIAMOND, to_x(molar_mass), y, _DIAMOND_STYLE + "; fill-opacity: 0"))
-    return ['<g clip-path="url(#axes)">', *bars, *dots, *diamonds, "</g>"] if points else []
+        bars += [("bar", low, high, y, colour), ("cap", low, y, colour), ("cap", high, y, colour)]
+        dots.append(("dot", to_x(measured), y, colour))
+        diamonds.append(("diamond", to_x(molar_mass), y))
+    return bars + dots + diamonds
+
+
+def _svg_shape(shape, family) -> str:
+    """Write one shape of :func:`axis_shapes` as matplotlib's SVG writes it."""
+    kind = shape[0]
+    if kind == "area":
+        return _path(shape[1], f"fill: {shape[2]}", clip=shape[3], close=True)
+    if kind == "line":
+        return _path(shape[1], _LINE.format(colour=shape[2], width=shape[3]), clip=shape[4])
+    if kind == "spine":
+        return _path(shape[1], _SPINE)
+    if kind == "mark":
+        return _marker(f"M 0 0 L {_number(shape[3])} {_number(shape[4])}", shape[1], shape[2], _MARK)
+    if kind == "text":
+        return _text(*shape[1:], family)
+    if kind == "bar":
+        return _path([(shape[1], shape[3]), (shape[2], shape[3])], f"fill: none; stroke: {shape[4]}")
+    if kind == "cap":
+        return _marker("M 0 2 L 0 -2", shape[1], shape[2], f"stroke: {shape[3]}; fill: {shape[3]}")
+    if kind == "dot":
+        return _marker(_CIRCLE, shape[1], shape[2], f"stroke: {shape[3]}; fill: {shape[3]}")
+    return _marker(_DIAMOND, shape[1], shape[2], _DIAMOND_STYLE + "; fill-opacity: 0")
 
 
 # matplotlib's circle marker of 3.2 pt (eight cubic arcs) and diamond of 4.2 pt, as its SVG writes them.
@@ -222,6 +241,7 @@ _CIRCLE = " ".join([
     "C -0.831328 1.431414 -0.424325 1.6 0 1.6 z",
 ])
 _DIAMOND = "M -0 2.969848 L 2.969848 0 L 0 -2.969848 L -2.969848 -0 z"
+_BAND = "#d9d9d9"
 _DIAMOND_STYLE = "stroke: #000000; stroke-width: 0.9; stroke-linejoin: miter"
 _KEY = "◇ candidate's M  ·  ● value if it is that gas, ±U  ·  grey: result, ±U"
 
@@ -233,23 +253,37 @@ def _reproducible(value, expanded, points) -> bool:
             and all(set(str(point[0])) <= _SAFE for point in points))
 
 
-def axis_svg(value, expanded, points, width=90.0, height=46.0, font_family="DejaVu Sans"):
-    """Write the molar-mass axis figure as the SVG matplotlib writes for it, or None.
+@dataclass(frozen=True)
+class AxisShapes:
+    """The axis figure as shapes in points from its top-left corner (y down), in drawing order.
+
+    ``shapes`` are tuples: ``("area", corners, colour, clipped)``, ``("line", points,
+    colour, width, clipped)`` (square caps), ``("spine", points)``, ``("mark", x, y, dx, dy)``
+    (a tick), ``("text", x, y, size, anchor, text)`` (``x, y`` on the baseline), and
+    ``("points", shapes)``, clipped to the axes, of ``("bar", x_low, x_high, y, colour)``,
+    ``("cap", x, y, colour)``, ``("dot", x, y, colour)`` and ``("diamond", x, y)``. Line
+    widths [pt].
+    """
+
+    width: float
+    height: float
+    axes: tuple
+    shapes: list
+
+
+def axis_shapes(value, expanded, points, width=90.0, height=46.0):
+    """Lay out the molar-mass axis figure as matplotlib lays it out, as shapes; None if not reproduced here.
 
     Parameters
     ----------
     value, expanded, points, width, height
         As for :func:`molid.reports.figures.axis_figure` ([g/mol]; size [mm]).
-    font_family : str
-        The font family the texts name: matplotlib's ("DejaVu Sans"), or the name the
-        PDF writer registered the same font under.
 
     Returns
     -------
-    bytes or None
-        The SVG document, already adapted for the PDF writer as
-        :func:`molid.reports.figures.svg_for_pdf` adapts matplotlib's; None when the
-        figure is not one reproduced here (see the module's notes), for matplotlib to draw.
+    AxisShapes or None
+        None when the figure is not one reproduced here (see the module's notes), for
+        matplotlib to draw.
     """
     if not _reproducible(value, expanded, points):
         return None
@@ -274,36 +308,59 @@ def axis_svg(value, expanded, points, width=90.0, height=46.0, font_family="Deja
     if form is None or not shown:
         return None
     labels = [(form % (0.0 if abs(tick) < 1e-8 else tick)).replace("-", "\N{MINUS SIGN}") for tick in shown]
-    frame = (left, right, top, bottom, to_x, font_family)
-    return _document(frame, layout, figure_width, figure_height, value, expanded, rows, shown, labels, points)
-
-
-def _document(frame, layout, figure_width, figure_height, value, expanded, rows, shown, labels, points):
-    """Assemble the SVG document in matplotlib's order: band, value line, axes, spines, points, key."""
-    left, right, top, bottom, to_x, family = frame
-    width, height = _number(figure_width), _number(figure_height)
+    frame = (left, right, top, bottom, to_x)
     corners = [(left, bottom), (right, bottom), (right, top), (left, top)]
-    band_low, band_high = to_x(value - expanded), to_x(value + expanded)
+    band = [to_x(value - expanded), to_x(value + expanded)]
+    shapes = [("area", [(0, figure_height), (figure_width, figure_height), (figure_width, 0), (0, 0)],
+               "#ffffff", False),
+              ("area", corners, "#ffffff", False),
+              ("area", [(band[0], bottom), (band[1], bottom), (band[1], top), (band[0], top)], _BAND, True),
+              ("line", [(to_x(value), bottom), (to_x(value), top)], "#555555", 0.8, True),
+              *_x_axis(frame, shown, labels)]
+    for row, label in enumerate(layout.labels):
+        baseline = rows(row) + _Y_TICK_BASELINE
+        shapes += [("mark", left, rows(row), -3.5, 0.0), ("text", left - 7.0, baseline, 6.5, "end", label)]
+    shapes += [("spine", [(left, bottom), (left, top)]), ("spine", [(left, bottom), (right, bottom)])]
+    if points:
+        shapes.append(("points", _points(frame, rows, points)))
+    shapes.append(("text", 0.015 * figure_width, 0.03 * figure_height + _KEY_BASELINE, 5.8, "start", _KEY))
+    return AxisShapes(figure_width, figure_height, (left, top, right - left, bottom - top), shapes)
+
+
+def axis_svg(value, expanded, points, width=90.0, height=46.0, font_family="DejaVu Sans"):
+    """Write the molar-mass axis figure as the SVG matplotlib writes for it, or None.
+
+    Parameters
+    ----------
+    value, expanded, points, width, height
+        As for :func:`molid.reports.figures.axis_figure` ([g/mol]; size [mm]).
+    font_family : str
+        The font family the texts name.
+
+    Returns
+    -------
+    bytes or None
+        The SVG document of :func:`axis_shapes`, already adapted for the PDF writer as
+        :func:`molid.reports.figures.svg_for_pdf` adapts matplotlib's; None when the
+        figure is not one reproduced here.
+    """
+    figure = axis_shapes(value, expanded, points, width, height)
+    if figure is None:
+        return None
+    width, height = _number(figure.width), _number(figure.height)
+    left, top, axes_width, axes_height = figure.axes
     parts = [
         f'<svg xmlns:xlink="http://www.w3.org/1999/xlink" width="{width}pt" height="{height}pt" '
         f'viewBox="0 0 {width} {height}" xmlns="http://www.w3.org/2000/svg" version="1.1">',
         '<defs><style type="text/css">*{stroke-linejoin: round; stroke-linecap: butt}</style>'
-        f'<clipPath id="axes"><rect x="{_number(left)}" y="{_number(top)}" width="{_number(right - left)}" '
-        f'height="{_number(bottom - top)}"/></clipPath></defs>',
-        _path([(0, figure_height), (figure_width, figure_height), (figure_width, 0), (0, 0)], "fill: #ffffff",
-              close=True),
-        _path(corners, "fill: #ffffff", close=True),
-        _path([(band_low, bottom), (band_high, bottom), (band_high, top), (band_low, top)], "fill: #d9d9d9",
-              clip=True, close=True),
-        _path([(to_x(value), bottom), (to_x(value), top)], _LINE.format(colour="#555555", width=0.8),
-              clip=True),
-        *_x_axis(frame, shown, labels),
+        f'<clipPath id="axes"><rect x="{_number(left)}" y="{_number(top)}" width="{_number(axes_width)}" '
+        f'height="{_number(axes_height)}"/></clipPath></defs>',
     ]
-    for row, label in enumerate(layout.labels):
-        parts.append(_marker("M 0 0 L -3.5 0", left, rows(row), _MARK))
-        parts.append(_text(left - 7.0, rows(row) + _Y_TICK_BASELINE, 6.5, "end", label, family))
-    parts += [_path([(left, bottom), (left, top)], _SPINE), _path([(left, bottom), (right, bottom)], _SPINE)]
-    parts += _points(frame, rows, points)
-    key_baseline = 0.03 * figure_height + _KEY_BASELINE
-    parts += [_text(0.015 * figure_width, key_baseline, 5.8, "start", _KEY, family), "</svg>"]
+    for shape in figure.shapes:
+        if shape[0] == "points":  # all clipped to the axes: one clipped group
+            items = [_svg_shape(item, font_family) for item in shape[1]]
+            parts += ['<g clip-path="url(#axes)">', *items, "</g>"]
+        else:
+            parts.append(_svg_shape(shape, font_family))
+    parts.append("</svg>")
     return "\n".join(parts).encode("utf-8")
