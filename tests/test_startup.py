@@ -47,3 +47,23 @@ def test_grading_imports_no_unit_or_plot_library(tmp_path):
                            env=environment, cwd=tmp_path).stdout for _ in range(2)]
     assert runs[1].splitlines()[-1].split() == ["IMPORTED"]
     assert (tmp_path / "grades.csv").read_text(encoding="utf-8").startswith("run,")
+
+
+def test_a_command_that_ends_early_leaves_complete_outputs(tmp_path, capsys):
+    """Checks behaviour: ``python -m molid`` ends without the interpreter's clean-up, outputs complete.
+
+    Its file and its standard output equal those of the same command run in-process, and
+    its exit statuses are the usual ones (0 done, 2 for a missing file).
+    """
+    from molid.cli import main
+
+    runs = ROOT / "sample_runs" / "qa_cylinders.csv"
+    environment = dict(os.environ, MOLID_CACHE_DIR=str(tmp_path / "cache"))
+    command = [sys.executable, "-m", "molid", "identify", str(runs), "-o", str(tmp_path / "a.csv")]
+    ended = subprocess.run(command, capture_output=True, text=True, env=environment, cwd=tmp_path)
+    assert main(["identify", str(runs), "-o", str(tmp_path / "b.csv")]) == ended.returncode == 0
+    assert capsys.readouterr().out == ended.stdout
+    assert (tmp_path / "a.csv").read_bytes() == (tmp_path / "b.csv").read_bytes()
+    missing = subprocess.run([sys.executable, "-m", "molid", "identify", str(tmp_path / "none.csv")],
+                             capture_output=True, text=True, env=environment, cwd=tmp_path)
+    assert missing.returncode == 2 and "no such file" in missing.stderr
