@@ -4,12 +4,14 @@ Not part of the test suite. Run from the repository root:
 
     python benchmarks/startup.py            # 7 timed runs of each command
     python benchmarks/startup.py 15         # more runs, a steadier median
+    python benchmarks/startup.py 9 --code /path/to/other/checkout   # time another version of molid
 
 Each command runs in a fresh process, whole: interpreter start, imports, reading,
 analysis and output. The yardstick is ``python -c "import pandas"`` with the same
 interpreter. The commands and the yardstick run in turn (A B A B ...), so that a
 machine whose speed drifts during the benchmark slows both alike, and each ratio is
-the median of the per-pair ratios. Timed:
+the median of the per-pair ratios, of wall time and of CPU time (user + system of the
+finished process, from the operating system's accounting). Timed:
 
 - ``molid identify ONE.csv``: a file of one run (the first run of
   sample_runs/qa_cylinders.csv);
@@ -25,8 +27,13 @@ folder, so the repository gets no ``__pycache__``) and with molid's user cache i
 temporary folder (``MOLID_CACHE_DIR``). The first run of each command is a warm-up and
 is not counted: it writes the bytecode and the user cache and fills the operating
 system's file cache.
+
+With ``--code DIR`` the commands import molid from DIR (a checkout or an unpacked
+``git archive``) instead of the installed one, so that two versions can be timed on the
+same machine, one after the other.
 """
 
+import argparse
 import csv
 import os
 import statistics
@@ -96,54 +103,72 @@ def commands(files: dict, folder: Path) -> dict:
     }
 
 
-def environment(folder: Path) -> dict:
+def environment(folder: Path, code: Path | None = None) -> dict:
     """Return the commands' environment: bytecode written into the folder, molid's user cache there too."""
     variables = dict(os.environ)
     variables.pop("PYTHONDONTWRITEBYTECODE", None)
     variables["PYTHONPYCACHEPREFIX"] = str(folder / "bytecode")
     variables["MOLID_CACHE_DIR"] = str(folder / "cache")
+    if code is not None:
+        variables["PYTHONPATH"] = os.pathsep.join([str(code), *filter(None, [os.environ.get("PYTHONPATH")])])
     return variables
 
 
-def wall_time(command, folder: Path) -> float:
-    """Wall seconds of one whole command, its output thrown away; exit 0 or 1 expected.
+def timed(command, folder: Path, code: Path | None = None) -> tuple:
+    """Wall and CPU seconds of one whole command, its output thrown away; exit 0 or 1 expected.
 
     The command runs in the temporary folder, since ``python -m`` puts the working
     folder first on the module path: run from a checkout, it would time that checkout.
+    CPU time is the finished process's user and system time, its children's included.
     """
+    before = os.times()
     start = time.perf_counter()
     process = subprocess.run(command, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
-                             env=environment(folder), cwd=folder)
+                             env=environment(folder, code), cwd=folder)
     elapsed = time.perf_counter() - start
+    after = os.times()
     if process.returncode not in (0, 1):
         raise SystemExit(f"{' '.join(command[:4])} failed:\n{process.stderr.decode()}")
-    return elapsed
+    cpu = (after.children_user - before.children_user) + (after.children_system - before.children_system)
+    return elapsed, cpu
 
 
-def paired(command, yardstick, runs: int, folder: Path):
-    """Median wall times of a command and the yardstick, run in turn, and the median ratio."""
-    wall_time(command, folder)
-    wall_time(yardstick, folder)
-    times, references = [], []
+def paired(command, yardstick, runs: int, folder: Path, code: Path | None = None) -> dict:
+    """Median wall and CPU times of a command and the yardstick, run in turn, and the median ratios."""
+    timed(command, folder, code)
+    timed(yardstick, folder, code)
+    pairs = []
     for _ in range(runs):
-        times.append(wall_time(command, folder))
-        references.append(wall_time(yardstick, folder))
-    ratios = [time_a / time_b for time_a, time_b in zip(times, references, strict=True)]
-    return statistics.median(times), statistics.median(references), statistics.median(ratios)
+        pairs.append((timed(command, folder, code), timed(yardstick, folder, code)))
+    figures = {}
+    for index, name in enumerate(("wall", "cpu")):
+        figures[name] = statistics.median(one[index] for one, _ in pairs)
+        figures[f"{name} pandas"] = statistics.median(other[index] for _, other in pairs)
+        figures[f"{name} ratio"] = statistics.median(one[index] / other[index] for one, other in pairs)
+    return figures
 
 
-def main(runs: int = 7) -> None:
+def main(runs: int = 7, code: Path | None = None) -> None:
     """Time each command against the pandas import and print a table of medians and ratios."""
     yardstick = [sys.executable, "-c", "import pandas"]
     with tempfile.TemporaryDirectory() as folder:
         folder = Path(folder)
         files = write_inputs(folder)
-        print(f"{runs} pairs each; medians of wall seconds; yardstick: python -c 'import pandas'")
-        print(f"{'command':<24} {'molid s':>8} {'pandas s':>9} {'ratio':>6}")
+        print(f"{runs} pairs each; medians; yardstick: python -c 'import pandas'"
+              + (f"; molid from {code}" if code else ""))
+        print(f"{'command':<24} {'wall s':>7} {'pandas':>7} {'ratio':>6} "
+              f"{'CPU s':>7} {'pandas':>7} {'ratio':>6}")
         for label, command in commands(files, folder).items():
-            median, reference, ratio = paired(command, yardstick, runs, folder)
-            print(f"{label:<24} {median:8.3f} {reference:9.3f} {ratio:6.2f}")
+            figures = paired(command, yardstick, runs, folder, code)
+            print(f"{label:<24} {figures['wall']:7.3f} {figures['wall pandas']:7.3f} "
+                  f"{figures['wall ratio']:6.2f} {figures['cpu']:7.3f} {figures['cpu pandas']:7.3f} "
+                  f"{figures['cpu ratio']:6.2f}")
 
 
 if __name__ == "__main__":
-    main(int(sys.argv[1]) if len(sys.argv) > 1 else 7)
+    options = argparse.ArgumentParser(description="Time everyday molid commands against importing pandas.")
+    options.add_argument("runs", nargs="?", type=int, default=7, help="timed pairs of each command (7)")
+    options.add_argument("--code", type=Path,
+                         help="import molid from this folder instead of the installed one")
+    arguments = options.parse_args()
+    main(arguments.runs, arguments.code.resolve() if arguments.code else None)
