@@ -617,7 +617,6 @@ def _leave(status: int) -> int:
     leave the ending to the interpreter as usual.
     """
     import atexit
-    import os
     import threading
 
     processes = sys.modules.get("multiprocessing")
@@ -629,19 +628,15 @@ def _leave(status: int) -> int:
     except (OSError, ValueError):
         return status
     atexit._run_exitfuncs()
-    for stream in (sys.stdout, sys.stderr):
-        try:
-            stream.flush()
-        except (OSError, ValueError):
-            pass
-    os._exit(status)
+    _exit_now(status)
 
 
 def _exit_now(status: int) -> None:
-    """End the process after an interruption, its partial outputs already removed.
+    """End the process at once, its standard streams flushed and no exit handler run.
 
-    The exit handlers are skipped on purpose: a worker pool's manager thread, cut off by
-    the signal, could keep the interpreter from ending.
+    After an interruption (partial outputs already removed) the exit handlers are skipped on
+    purpose: a worker pool's manager thread, cut off by the signal, could keep the
+    interpreter from ending.
     """
     import os
 

@@ -18,7 +18,8 @@ from molid.candidates.verdicts import verdicts
 from molid.physics.constants import ZERO_CELSIUS
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
-__all__ = ["density_block", "reference_columns", "reference_lines", "run_density", "sample_density"]
+__all__ = ["density_block", "reference_columns", "reference_lines", "run_density", "sample_density",
+           "state_text"]
 
 
 def _float(value):
@@ -66,7 +67,7 @@ def _shown(value, u, unit=""):
     return f"{value:.{decimals}f} ± {expanded:.{decimals}f}{unit}"
 
 
-def _state_text(temperature, pressure, measured=False) -> str:
+def state_text(temperature, pressure, measured=False) -> str:
     """Name a state: a measured one to 0.01 °C and 1 Pa, reference conditions as given."""
     if measured:
         return f"{temperature - ZERO_CELSIUS:.2f} °C and {pressure / 1000:.3f} kPa"
@@ -79,13 +80,13 @@ def reference_lines(entry) -> list:
     density = entry.get("density")
     if density:
         lines.append(f"    density: {_shown(density['value'], density['u'], ' kg/m³')} (k=2) at "
-                     f"{_state_text(density['temperature_K'], density['pressure_Pa'], measured=True)}")
+                     f"{state_text(density['temperature_K'], density['pressure_Pa'], measured=True)}")
     leading = next((item for item in entry.get("candidates", [])
                     if item.get("verdict") == "consistent" and "reference_density" in item), None)
     if leading is None:
         return lines
     block = leading["reference_density"]
-    where = _state_text(block["temperature_K"], block["pressure_Pa"])
+    where = state_text(block["temperature_K"], block["pressure_Pa"])
     if block["value"] is None:
         lines.append(f"    if {leading['name']}, at {where}: no density: {block.get('note', '')}")
         return lines

@@ -14,7 +14,7 @@ import math
 import re
 
 from molid.io.reference_output import run_density, sample_density
-from molid.physics.constants import ZERO_CELSIUS
+from molid.io.reference_output import state_text as _state
 from molid.uncertainty.propagation import COVERAGE_FACTOR
 
 __all__ = ["DENSITY_TITLE", "density_lines"]
@@ -22,7 +22,6 @@ __all__ = ["DENSITY_TITLE", "density_lines"]
 #: The box's title.
 DENSITY_TITLE = "Density (U, k = 2); relative density: against dry air at the same conditions (ISO 6976:2016)"
 
-_KILO = 1000.0  # Pa → kPa
 _UNIT = " kg/m³"
 
 
@@ -40,13 +39,6 @@ def _with_u(value, u, unit="") -> str:
         return f"{value:.6g} ± –{unit}"
     decimals = max(0, 1 - int(math.floor(math.log10(expanded))))
     return f"{value:.{decimals}f} ± {expanded:.{decimals}f}{unit}"
-
-
-def _state(temperature, pressure, measured=False) -> str:
-    """Name a state: a measured one to 0.01 °C and 1 Pa, reference conditions as given."""
-    if measured:
-        return f"{temperature - ZERO_CELSIUS:.2f} °C and {pressure / _KILO:.3f} kPa"
-    return f"{temperature - ZERO_CELSIUS:.6g} °C and {pressure / _KILO:.6g} kPa"
 
 
 def _leading(candidates):
