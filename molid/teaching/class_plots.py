@@ -260,9 +260,11 @@ def interval_figure(grading):
     shown = f"; the first {count} of {total} runs" if total > count else ""
     axes.set_title("Recomputed interval of each run against the true molar mass\n"
                    f"(from the students' readings; coloured: the reported value disagrees{shown})",
-                   fontsize=10)
+                   fontsize=10, pad=16)
     axes.grid(axis="x", color="#dddddd", linewidth=0.6)
-    axes.legend(loc="lower left", fontsize=8, framealpha=0.9)
+    # the key sits between the title and the first row, never over a run's bar
+    axes.legend(loc="lower center", bbox_to_anchor=(0.5, 1.0), ncol=2, fontsize=8, frameon=False,
+                borderaxespad=0.2)
     return figure
 
 
