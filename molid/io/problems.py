@@ -12,11 +12,38 @@ from collections.abc import Callable
 
 import numpy as np
 
-__all__ = ["InputError", "RowProblems"]
+__all__ = ["InputError", "RowProblems", "read_file_bytes"]
 
 
 class InputError(ValueError):
     """A problem with a file as a whole: nothing in it can be analysed."""
+
+
+def read_file_bytes(path, problem: type[Exception] = InputError) -> bytes:
+    """Read a file's bytes; a path that is missing, a folder or unreadable raises ``problem`` saying which.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The file.
+    problem : type
+        The exception raised, with the path and the reason as its message.
+
+    Returns
+    -------
+    bytes
+        The file's content.
+    """
+    from pathlib import Path
+
+    try:
+        return Path(path).read_bytes()
+    except FileNotFoundError:
+        raise problem(f"{path}: no such file") from None
+    except IsADirectoryError:
+        raise problem(f"{path}: is a folder, not a file") from None
+    except OSError as error:
+        raise problem(f"{path}: cannot read it ({error.strerror})") from None
 
 
 class RowProblems:

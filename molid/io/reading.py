@@ -50,7 +50,7 @@ from molid.io.headers import (
     resolve_headers,
     uncertainty_columns,
 )
-from molid.io.problems import InputError, RowProblems
+from molid.io.problems import InputError, RowProblems, read_file_bytes
 from molid.io.profiles import InstrumentProfile, load_profile
 from molid.io.vessel_column import load_vessels, look_up_vessels, share_vessel_volumes, vessel_rows
 from molid.io.workbooks import Workbook, looks_like_workbook
@@ -258,12 +258,8 @@ def _read_bytes(source) -> tuple[bytes, str]:
             data = source.read()
             name = getattr(source, "name", "stream")
         else:
-            data = Path(source).read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{name}: no such file") from None
-    except IsADirectoryError:
-        raise InputError(f"{name}: is a folder, not a file") from None
-    except OSError as error:
+            data = read_file_bytes(source)
+    except OSError as error:  # reading standard input or an open file
         raise InputError(f"{name}: cannot read it ({error.strerror})") from None
     if isinstance(data, str):
         data = data.encode("utf-8")

@@ -30,7 +30,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from molid import __version__
-from molid.io.problems import InputError
+from molid.io.problems import InputError, read_file_bytes
 from molid.io.provenance import INPUT_OPTIONS
 
 __all__ = ["ABSOLUTE_TOLERANCE", "CannotVerify", "RELATIVE_TOLERANCE", "Verification", "compare_documents",
@@ -86,13 +86,7 @@ def _load(path) -> dict:
     """Read a result file and check it carries a provenance record of a command that can be re-run."""
     name = str(path)
     try:
-        document = json.loads(Path(path).read_bytes().decode("utf-8-sig"))
-    except FileNotFoundError:
-        raise CannotVerify(f"{name}: no such file") from None
-    except IsADirectoryError:
-        raise CannotVerify(f"{name}: is a folder, not a file") from None
-    except OSError as error:
-        raise CannotVerify(f"{name}: cannot read it ({error.strerror})") from None
+        document = json.loads(read_file_bytes(path, CannotVerify).decode("utf-8-sig"))
     except (UnicodeDecodeError, json.JSONDecodeError) as error:
         raise CannotVerify(f"{name}: not a molid result: not JSON ({error})") from None
     provenance = document.get("provenance") if isinstance(document, dict) else None

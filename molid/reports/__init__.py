@@ -22,7 +22,7 @@ import os
 import sys
 from pathlib import Path
 
-from molid.io.problems import InputError
+from molid.io.problems import InputError, read_file_bytes
 
 __all__ = [
     "format_for",
@@ -94,14 +94,7 @@ def _read_source(source):
         data = source.read()
         return (data.encode("utf-8") if isinstance(data, str) else data), None, getattr(
             source, "name", "stream")
-    try:
-        return Path(source).read_bytes(), None, str(source)
-    except FileNotFoundError:
-        raise InputError(f"{source}: no such file") from None
-    except IsADirectoryError:
-        raise InputError(f"{source}: is a folder, not a file") from None
-    except OSError as error:
-        raise InputError(f"{source}: cannot read it ({error.strerror})") from None
+    return read_file_bytes(source), None, str(source)
 
 
 def build_report(source, *, profile=None, library=None, top=5, key=None, rubric=None,
