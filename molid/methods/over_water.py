@@ -1,6 +1,6 @@
 r"""Gas collected over water: a gas released from a weighed source into a tube standing in water.
 
-A small source (a gas lighter, a lecture bottle) is weighed, part of its gas is
+A small source (a gas lighter, a small gas cylinder) is weighed, part of its gas is
 released under water into an inverted graduated tube filled with water, the
 source is dried and weighed again, and the collected volume, the water's
 temperature, the barometric pressure and (where the levels are not equalised)
